@@ -12,6 +12,7 @@ __all__ = [
     "GAP_MAX_ANGLE",
     "NORMAL_INCIDENCE_SIN",
     "PLANARITY_TOL",
+    "STOKES_DOP_TOL",
 ]
 
 #: Distance a child ray is moved along its direction after a hit, so that it does not
@@ -34,3 +35,27 @@ NORMAL_INCIDENCE_SIN = 1e-12
 
 #: Largest distance of a vertex from its face's fitted plane for the face to count as planar [m].
 PLANARITY_TOL = 1e-7
+
+#: Largest excess of a Stokes vector's degree of polarisation over 1 still accepted as
+#: round-off (a source Stokes vector like (1, 0.6, 0.8, 0) typed with few digits) [1].
+STOKES_DOP_TOL = 1e-9
+
+#: Branch choice of ``n cos θ`` (see :mod:`tracer.fresnel`): an imaginary part below this
+#: magnitude counts as zero, and the root with non-negative real part (energy flowing away
+#: from the face) is taken; above it the root with positive imaginary part (a decaying wave).
+#: Same threshold (100 machine epsilons) as ``tmm``'s ``is_forward_angle`` (S. J. Byrnes,
+#: "Multilayer optical calculations", arXiv:1603.02720, 2016, Appendix D).
+BRANCH_IMAG_TOL = 100 * 2.220446049250313e-16
+
+__all__ += ["BRANCH_IMAG_TOL"]
+
+#: A detector placed on a face (``on_face``) sits this far outside the face plane, so that
+#: a ray leaving the face (moved on by RAY_OFFSET) still crosses it, and a ray arriving
+#: crosses it before the face [m].
+DETECTOR_FACE_OFFSET = 10 * RAY_OFFSET
+
+#: Largest |x_axis . direction| accepted for a source or detector frame, and largest
+#: out-of-plane component (z) of a position [m] or direction [1] in a 2D scene.
+FRAME_TOL = 1e-9
+
+__all__ += ["DETECTOR_FACE_OFFSET", "FRAME_TOL"]
