@@ -59,3 +59,38 @@ DETECTOR_FACE_OFFSET = 10 * RAY_OFFSET
 FRAME_TOL = 1e-9
 
 __all__ += ["DETECTOR_FACE_OFFSET", "FRAME_TOL"]
+
+# --- geometry (tracer.geometry) ---------------------------------------------------------
+
+#: Smallest ray parameter t accepted as a hit [m for unit directions]; hits at or behind
+#: the origin (the face a ray has just left) are ignored. Far below RAY_OFFSET.
+INTERSECT_MIN_T = 1e-12
+
+#: Barycentric slack of the ray-triangle test [1], so that a ray through the shared edge
+#: of two triangles of one face (e.g. the diagonal of a quad) hits at least one of them.
+TRIANGLE_EDGE_TOL = 1e-12
+
+#: Points closer than this are one vertex (polytope vertices, mesh vertex merging) [m].
+VERTEX_MERGE_TOL = 1e-9
+
+#: Largest angle between two triangle normals for them to belong to one planar facet [rad].
+FACET_ANGLE_TOL = 1e-6
+
+#: Largest deviation of a rotation matrix from orthonormality (max |R^T R - I|) [1].
+ROTATION_TOL = 1e-9
+
+#: Automatic gap finding: smallest footprint overlap still counted as facing faces [m^2].
+GAP_MIN_OVERLAP_AREA = 1e-12
+
+#: Two solids whose interiors share more than this volume overlap [m^3] (a 10 um cube).
+OVERLAP_MIN_VOLUME = 1e-15
+
+__all__ += [
+    "INTERSECT_MIN_T",
+    "TRIANGLE_EDGE_TOL",
+    "VERTEX_MERGE_TOL",
+    "FACET_ANGLE_TOL",
+    "ROTATION_TOL",
+    "GAP_MIN_OVERLAP_AREA",
+    "OVERLAP_MIN_VOLUME",
+]
