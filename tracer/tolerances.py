@@ -94,3 +94,9 @@ __all__ += [
     "GAP_MIN_OVERLAP_AREA",
     "OVERLAP_MIN_VOLUME",
 ]
+
+#: Relative slack when checking a wavelength against a material's valid range [1], so that
+#: a range end written in other units (e.g. "0.21 um" vs 210 nm) is not refused by round-off.
+WAVELENGTH_RANGE_RTOL = 1e-9
+
+__all__ += ["WAVELENGTH_RANGE_RTOL"]
