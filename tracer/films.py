@@ -1,0 +1,431 @@
+"""Layered stacks: characteristic-matrix solver, coherent and incoherent.
+
+A stack is a semi-infinite medium of incidence ``n_in``, any number of planar layers
+``(n_j, d_j)`` and a semi-infinite exit medium ``n_out``. Light travels through the layers
+in the order they are listed. The tangential wave vector is the invariant
+``β = n_in sin θ_in``; in each medium ``q = n cos θ = sqrt(n^2 - β^2)`` is taken on the
+forward-wave branch of :mod:`tracer.fresnel` (decaying field beyond the critical angle or
+in an absorbing medium), and all sign and power conventions are those of
+:mod:`tracer.fresnel`: with no layers :func:`stack` equals
+:func:`tracer.fresnel.coefficients`.
+
+Method (coherent)
+-----------------
+For s the transverse field pair is ``(E_y, H_x)``, for p it is ``(H_y, E_x)``; in a layer of
+phase thickness ``δ = k0 d q`` (``k0 = 2π/λ``) the pair at the front follows from the pair at
+the back through the characteristic matrix (Eq. 1.6(33) in [1], Eq. 2.98 in [2], written
+for our ``exp(-iωt)`` convention)::
+
+    M = [[cos δ, -i sin δ / g], [-i g sin δ, cos δ]],   g = q (s),  g = q / n^2 (p).
+
+For an evanescent or lossy layer ``cos δ`` and ``sin δ`` grow as ``exp(Im δ)``; we multiply
+each matrix by ``exp(iδ)`` (modulus <= 1), which turns its entries into the bounded
+``(1 + e^{2iδ}) / 2`` and ``k0 d · expm1(2iδ) / (2iδ)`` (times ``1`` or ``g^2``, with the
+``1/g`` of ``sin δ / g`` cancelled analytically). The product of the factors,
+``exp(i Σ δ)``, multiplies the transmitted amplitude only. So a layer thousands of decay
+lengths thick gives ``t -> 0`` without overflow, a layer at exactly its critical angle
+(``q = 0``) takes the analytic limit ``sin δ / q -> k0 d``, and a zero-thickness layer is
+exactly the identity. With ``[B, C] = M_1 ... M_L [1, g_out]``::
+
+    r = (g_in B - C) / (g_in B + C),   t_g = 2 g_in / (g_in B + C)
+
+and ``t = t_g`` for s, ``t = t_g n_in / n_out`` for p (the p solution is carried by the
+magnetic field, ``H = n E`` in our units). Power coefficients use the factors of
+:func:`tracer.fresnel.power_factors` (those of [3]); absorptance ``A = 1 - R - T``.
+
+Method (incoherent)
+-------------------
+A layer flagged incoherent (thicker than the coherence length) loses its phase: the layers
+are grouped into coherent sub-stacks separated by the incoherent layers, each sub-stack is
+solved coherently in both directions (powers ``R, T`` forward and ``R', T'`` backward), and
+the multiple reflections inside each incoherent layer are summed in power with the single
+pass transmission ``P = |exp(iδ)|^2``, from the back of the stack towards the front::
+
+    T_tot <- T P T_tot / (1 - R' P^2 R_tot)
+    R_tot <- R + T T' P^2 R_tot / (1 - R' P^2 R_tot)
+
+(for one layer with bare faces ``T = T1 T2 / (1 - R1 R2)``; the same sum as the power
+transfer matrices of section 6 of [3]). A layer forced incoherent beyond its critical
+angle passes nothing (no tunnelling): keep such layers coherent (as
+:func:`tracer.coatings.gap_response` does automatically).
+
+Amplitudes in incoherent mode are not defined physically. We return
+``r = sqrt(R) · exp(i arg r_1)`` with ``r_1`` the coherent reflection of the first sub-stack
+(the first-surface reflection), and ``t = sqrt(T / f) · exp(i arg t_1)`` with ``f`` the power
+factor of the whole stack (so that ``|t|^2 f = T`` and
+:func:`tracer.fresnel.amplitude_factor` works as for coherent stacks) and ``t_1`` the
+single-pass coherent term (product of the sub-stack transmissions and the layer phases
+``exp(iδ)``); ``t = 0`` where ``f = 0``.
+
+Arrays: every index, thickness, wavelength and angle broadcasts with the others (N rays,
+each with its own angle, wavelength, even its own layer index or thickness). The loop runs
+over layers, never over rays.
+
+References
+----------
+[1] M. Born and E. Wolf, *Principles of Optics*, 7th ed., Cambridge University Press,
+    1999, section 1.6.
+[2] H. A. Macleod, *Thin-Film Optical Filters*, 4th ed., CRC Press, 2010, chapter 2.
+[3] S. J. Byrnes, "Multilayer optical calculations", arXiv:1603.02720, 2016 (the ``tmm``
+    package).
+
+Examples
+--------
+>>> import numpy as np
+>>> from tracer import films
+>>> # quarter-wave MgF2 on glass at its design wavelength: R = ((1.52 - 1.38^2)/(1.52 + 1.38^2))^2
+>>> s = films.stack(n_in=1.0, layers=[(1.38, 550e-9 / (4 * 1.38))], n_out=1.52,
+...                 wavelength=550e-9, angle=0.0)
+>>> round(float(s.Rs), 5)
+0.01259
+>>> # frustrated TIR: 45 deg in glass across a 0.3 um air gap
+>>> s = films.stack(n_in=1.5168, layers=[(1.0, 0.3e-6)], n_out=1.5168,
+...                 wavelength=550e-9, angle=np.radians(45))
+>>> bool(0 < s.Ts < 1 and abs(s.Rs + s.Ts - 1) < 1e-12)
+True
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+
+from .fresnel import (
+    CoefficientError,
+    Coefficients,
+    _as_index,
+    _forward_root,
+    _invariant_squared,
+    cosine_of,
+    power_factors,
+)
+
+__all__ = ["stack", "Coefficients"]
+
+
+def _abs2(z: np.ndarray) -> np.ndarray:
+    return z.real * z.real + z.imag * z.imag
+
+
+def _layer_matrix_terms(q, d, k0):
+    """Bounded terms of ``exp(iδ) M`` for a layer: ``h``, ``-i F``, and ``x = 2iδ``.
+
+    ``h = (1 + e^{2iδ}) / 2`` and ``F = exp(iδ) sin δ / q = k0 d expm1(2iδ) / (2iδ)``
+    (limit ``k0 d`` at ``δ = 0``).
+    """
+    kd = k0 * d
+    x = (2j * kd) * q  # 2 i δ
+    em1 = np.expm1(x)
+    h = em1 * 0.5
+    h += 1.0  # (1 + e^{2iδ}) / 2 = 1 + expm1/2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        F = em1 / x
+    small = x == 0
+    if np.any(small):
+        F = np.where(small, 1.0 + 0j, F)
+    F *= kd
+    F *= -1j  # now -i F
+    return h, F, x
+
+
+def _coherent(n_in, q_in, n_out, q_out, layers, k0):
+    """Coherent amplitudes ``rs, ts, rp, tp`` of a stack (module docstring, coherent).
+
+    ``layers`` is a list of ``(n, n2, q, d)`` with ``n2 = n^2`` of each layer, in the order
+    light meets them.
+    """
+    # Start at the exit medium: [B, C] = [1, g_out].
+    Bs = None
+    Cs = q_out
+    n_out2 = n_out * n_out
+    Cp = q_out / n_out2
+    Bp = None
+    X = None  # sum of 2iδ
+    for _, n2, q, d in reversed(layers):
+        h, mF, x = _layer_matrix_terms(q, d, k0)
+        X = x if X is None else X + x
+        q2 = q * q
+        # s: B' = h B - iF C ; C' = -i q^2 F B + h C
+        if Bs is None:
+            Bs_new = h + mF * Cs
+            Cs_new = mF * q2 + h * Cs
+            Bp_new = h + (mF * n2) * Cp
+            Cp_new = mF * (q2 / n2) + h * Cp
+        else:
+            Bs_new = h * Bs + mF * Cs
+            Cs_new = (mF * q2) * Bs + h * Cs
+            Bp_new = h * Bp + (mF * n2) * Cp
+            Cp_new = (mF * (q2 / n2)) * Bp + h * Cp
+        Bs, Cs, Bp, Cp = Bs_new, Cs_new, Bp_new, Cp_new
+    g_in_p = q_in / (n_in * n_in)
+    if Bs is None:  # bare interface
+        num_s, den_s = q_in - Cs, q_in + Cs
+        num_p, den_p = g_in_p - Cp, g_in_p + Cp
+        P = None
+    else:
+        a = q_in * Bs
+        num_s, den_s = a - Cs, a + Cs
+        a = g_in_p * Bp
+        num_p, den_p = a - Cp, a + Cp
+        P = np.exp(X * 0.5)  # exp(i Σ δ), modulus <= 1
+    degenerate = (den_s == 0) | (den_p == 0)
+    any_deg = bool(np.any(degenerate))
+    if any_deg:  # grazing incidence on an invisible stack (0/0): r = 0, t = 1
+        den_s = np.where(degenerate, 1.0, den_s)
+        den_p = np.where(degenerate, 1.0, den_p)
+    rs = num_s / den_s
+    rp = num_p / den_p
+    ts = (2 * q_in) / den_s
+    tp = (2 * g_in_p * (n_in / n_out)) / den_p
+    if P is not None:
+        ts *= P
+        tp *= P
+    if any_deg:
+        rs = np.where(degenerate, 0, rs)
+        rp = np.where(degenerate, 0, rp)
+        ts = np.where(degenerate, 1, ts)
+        tp = np.where(degenerate, 1, tp)
+    return rs, ts, rp, tp, any_deg and degenerate
+
+
+def _coherent_powers(n_in, q_in, n_out, q_out, layers, k0):
+    rs, ts, rp, tp, degenerate = _coherent(n_in, q_in, n_out, q_out, layers, k0)
+    fs, fp = power_factors(n_in=n_in, ncos_in=q_in, n_out=n_out, ncos_out=q_out)
+    Ts = fs * _abs2(ts)
+    Tp = fp * _abs2(tp)
+    if degenerate is not False:
+        Ts = np.where(degenerate, 1.0, Ts)
+        Tp = np.where(degenerate, 1.0, Tp)
+    return rs, ts, rp, tp, _abs2(rs), Ts, _abs2(rp), Tp
+
+
+def _incoherent(n_in, q_in, n_out, q_out, layers, k0, flags):
+    """Partly incoherent stack (module docstring, incoherent). ``flags[j]`` True = coherent."""
+    # Media bounding the coherent groups: ambient, each incoherent layer, exit.
+    media = [(n_in, q_in, None)]
+    groups = [[]]
+    for layer, coh in zip(layers, flags):
+        if coh:
+            groups[-1].append(layer)
+        else:
+            n, _, q, d = layer
+            media.append((n, q, d))
+            groups.append([])
+    media.append((n_out, q_out, None))
+
+    G = len(groups)
+    fwd = []
+    bwd = []
+    for g in range(G):
+        na, qa, _ = media[g]
+        nb, qb, _ = media[g + 1]
+        fwd.append(_coherent_powers(na, qa, nb, qb, groups[g], k0))
+        if g < G - 1:
+            rev = groups[g][::-1]
+            bwd.append(_coherent_powers(nb, qb, na, qa, rev, k0))
+    out = []
+    for pol in (0, 1):  # s, p
+        iR, iT = (4, 5) if pol == 0 else (6, 7)
+        R_tot = fwd[G - 1][iR]
+        T_tot = fwd[G - 1][iT]
+        for g in range(G - 2, -1, -1):
+            _, q_l, d_l = media[g + 1]
+            P = np.exp(-2.0 * k0 * d_l * q_l.imag)  # single-pass power |exp(iδ)|^2
+            Rg, Tg = fwd[g][iR], fwd[g][iT]
+            Rb, Tb = bwd[g][iR], bwd[g][iT]
+            PR = (P * P) * R_tot
+            with np.errstate(divide="ignore", invalid="ignore"):
+                den = 1.0 - Rb * PR
+                den = np.where(den > 0, den, 1.0)
+                T_new = Tg * P * T_tot / den
+                R_new = Rg + Tg * Tb * PR / den
+            R_tot, T_tot = R_new, T_new
+        out.append((R_tot, T_tot))
+    (Rs, Ts), (Rp, Tp) = out
+    # Amplitudes: sqrt of power, phase of the first-pass coherent terms.
+    r1s, r1p = fwd[0][0], fwd[0][2]
+    t1s = fwd[0][1]
+    t1p = fwd[0][3]
+    for g in range(1, G):
+        _, q_l, d_l = media[g]
+        ph = np.exp(1j * k0 * d_l * q_l)
+        t1s = t1s * ph * fwd[g][1]
+        t1p = t1p * ph * fwd[g][3]
+    fs, fp = power_factors(n_in=n_in, ncos_in=q_in, n_out=n_out, ncos_out=q_out)
+    rs = np.sqrt(Rs) * np.exp(1j * np.angle(r1s))
+    rp = np.sqrt(Rp) * np.exp(1j * np.angle(r1p))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ts = np.where(fs > 0, np.sqrt(Ts / np.where(fs > 0, fs, 1.0)), 0.0) * np.exp(1j * np.angle(t1s))
+        tp = np.where(fp > 0, np.sqrt(Tp / np.where(fp > 0, fp, 1.0)), 0.0) * np.exp(1j * np.angle(t1p))
+    return rs, ts, rp, tp, Rs, Ts, Rp, Tp
+
+
+def _parse_layers(layers):
+    if layers is None:
+        return []
+    if not isinstance(layers, Sequence) or isinstance(layers, (str, bytes)):
+        raise CoefficientError(
+            "layers must be a list of (index, thickness [m]) pairs, "
+            f"got {type(layers).__name__}"
+        )
+    out = []
+    for j, item in enumerate(layers):
+        try:
+            n, d = item
+        except (TypeError, ValueError):
+            raise CoefficientError(
+                f"layers[{j}] must be a pair (index, thickness [m]), got {item!r}"
+            ) from None
+        n = _as_index(n)
+        d = np.asarray(d, dtype=float)
+        if np.any(d < 0) or np.any(np.isinf(d)):
+            raise CoefficientError(
+                f"layers[{j}]: thickness must be finite and >= 0 [m], got {d!r}"
+            )
+        out.append((n, d))
+    return out
+
+
+def _parse_flags(coherent, count):
+    if isinstance(coherent, (bool, np.bool_)):
+        return [bool(coherent)] * count
+    try:
+        flags = list(coherent)
+    except TypeError:
+        raise CoefficientError(
+            "coherent must be True, False or one flag per layer"
+        ) from None
+    if len(flags) != count:
+        raise CoefficientError(
+            f"coherent has {len(flags)} flags but the stack has {count} layers"
+        )
+    out = []
+    for f in flags:
+        a = np.asarray(f, dtype=bool)
+        out.append(bool(a) if a.ndim == 0 else a)
+    return out
+
+
+def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, coherent=True) -> Coefficients:
+    """Amplitude and power coefficients of a layered stack for s and p.
+
+    Parameters
+    ----------
+    n_in : array_like complex [1]
+        Index of the semi-infinite medium of incidence.
+    layers : sequence of (index, thickness) pairs
+        Layers in the order light meets them; ``index`` array_like complex [1] and
+        ``thickness`` array_like float [m] (>= 0), each broadcast with the rays.
+    n_out : array_like complex [1]
+        Index of the semi-infinite exit medium.
+    wavelength : array_like float [m]
+        Vacuum wavelength.
+    angle : array_like float [rad], optional
+        Angle of incidence inside ``n_in``, in ``[0, π/2]``.
+    cos_angle : array_like float [1], optional
+        Its cosine, instead of ``angle``.
+    coherent : bool or sequence of bool (or bool arrays over the rays), default True
+        ``True``: every layer coherent. ``False``: every layer incoherent (phase
+        discarded, multiple reflections summed in power). A sequence gives one flag per
+        layer; a flag may itself be an array broadcast with the rays (each ray is solved
+        with its own pattern).
+
+    Returns
+    -------
+    tracer.fresnel.Coefficients
+        ``rs, rp, ts, tp, Rs, Rp, Ts, Tp, As, Ap`` and ``ncos_in, ncos_out, n_in, n_out``,
+        broadcast to the common shape of all inputs. Amplitudes of incoherent stacks as
+        documented in the module docstring.
+
+    Raises
+    ------
+    tracer.fresnel.CoefficientError
+        Malformed layers, negative or infinite thickness, bad angle, non-positive
+        wavelength, mismatched coherence flags.
+    """
+    c_in = cosine_of(angle=angle, cos_angle=cos_angle)
+    wl = np.asarray(wavelength, dtype=float)
+    if np.any(~(wl > 0)):
+        raise CoefficientError(f"wavelength must be > 0 [m], got {wavelength!r}")
+    n_in = _as_index(n_in)
+    n_out = _as_index(n_out)
+    lay = _parse_layers(layers)
+    flags = _parse_flags(coherent, len(lay))
+
+    shapes = [c_in.shape, wl.shape, n_in.shape, n_out.shape]
+    for n, d in lay:
+        shapes += [n.shape, d.shape]
+    for f in flags:
+        if not isinstance(f, bool):
+            shapes.append(f.shape)
+    try:
+        shape = np.broadcast_shapes(*shapes)
+    except ValueError:
+        raise CoefficientError(
+            f"stack inputs do not broadcast together: shapes {shapes}"
+        ) from None
+
+    k0 = (2 * np.pi) / wl
+    beta2 = _invariant_squared(n_in, c_in)
+    q_in = n_in * c_in
+    q_out = _forward_root(n_out * n_out - beta2)
+    ldata = []
+    for n, d in lay:
+        n2 = n * n
+        ldata.append((n, n2, _forward_root(n2 - beta2), d))
+
+    if all(f is True for f in flags):
+        res = _coherent_powers(n_in, q_in, n_out, q_out, ldata, k0)
+    elif all(isinstance(f, bool) for f in flags):
+        res = _incoherent(n_in, q_in, n_out, q_out, ldata, k0, flags)
+    else:
+        res = _mixed(n_in, q_in, n_out, q_out, ldata, k0, flags, shape)
+    rs, ts, rp, tp, Rs, Ts, Rp, Tp = (_full(a, shape) for a in res)
+    return Coefficients(
+        rs=rs, rp=rp, ts=ts, tp=tp, Rs=Rs, Rp=Rp, Ts=Ts, Tp=Tp,
+        As=1.0 - Rs - Ts, Ap=1.0 - Rp - Tp,
+        ncos_in=_full(q_in, shape), ncos_out=_full(q_out, shape),
+        n_in=_full(n_in, shape), n_out=_full(n_out, shape),
+    )
+
+
+def _full(a, shape):
+    a = np.asarray(a)
+    if a.shape != shape:
+        a = np.broadcast_to(a, shape).copy()
+    return a
+
+
+def _mixed(n_in, q_in, n_out, q_out, ldata, k0, flags, shape):
+    """Per-ray coherence patterns: solve each distinct pattern on its own rays."""
+    size = int(np.prod(shape))
+
+    def flat(a):
+        return np.broadcast_to(a, shape).reshape(size)
+
+    F = np.stack([flat(np.asarray(f, dtype=bool)) for f in flags])  # (L, size)
+    codes = np.zeros(size, dtype=np.int64)
+    for j in range(F.shape[0]):
+        codes |= F[j].astype(np.int64) << j
+    complex_out = [np.empty(size, complex) for _ in range(4)]
+    real_out = [np.empty(size, float) for _ in range(4)]
+    args = [flat(n_in), flat(q_in), flat(n_out), flat(q_out), flat(k0)]
+    lflat = [tuple(flat(a) for a in layer) for layer in ldata]
+    for code in np.unique(codes):
+        idx = np.nonzero(codes == code)[0]
+        pattern = [bool((code >> j) & 1) for j in range(len(flags))]
+        sub = [a[idx] for a in args]
+        sl = [tuple(a[idx] for a in layer) for layer in lflat]
+        if all(pattern):
+            res = _coherent_powers(sub[0], sub[1], sub[2], sub[3], sl, sub[4])
+        else:
+            res = _incoherent(sub[0], sub[1], sub[2], sub[3], sl, sub[4], pattern)
+        rs, ts, rp, tp, Rs, Ts, Rp, Tp = res
+        for out, val in zip(complex_out, (rs, ts, rp, tp)):
+            out[idx] = val
+        for out, val in zip(real_out, (Rs, Ts, Rp, Tp)):
+            out[idx] = val
+    rs, ts, rp, tp = (a.reshape(shape) for a in complex_out)
+    Rs, Ts, Rp, Tp = (a.reshape(shape) for a in real_out)
+    return rs, ts, rp, tp, Rs, Ts, Rp, Tp
