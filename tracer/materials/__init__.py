@@ -1,0 +1,46 @@
+"""Refractive-index models and the catalog of published materials.
+
+An index model is any object with ``refractive_index(wavelength, *, extrapolate=False)``
+returning complex ``n + i*kappa`` (vacuum wavelength [m], broadcast), and attributes
+``name``, ``valid_range`` (m, m) and ``reference``. See :mod:`tracer.materials.models`
+for the model classes and :mod:`tracer.materials.catalog` for the named materials.
+
+>>> from tracer import materials
+>>> round(float(materials.get("caf2").refractive_index(587.6e-9).real), 4)
+1.4338
+"""
+
+from tracer.materials.catalog import aliases, describe, get, names
+from tracer.materials.models import (
+    FRAUNHOFER_C,
+    FRAUNHOFER_D,
+    FRAUNHOFER_F,
+    Cauchy,
+    CiddorAir,
+    ConstantIndex,
+    IndexModel,
+    RadioAir,
+    Sellmeier,
+    Tabulated,
+    glass_from_code,
+    parse_glass_code,
+)
+
+__all__ = [
+    "get",
+    "names",
+    "aliases",
+    "describe",
+    "IndexModel",
+    "ConstantIndex",
+    "Cauchy",
+    "Sellmeier",
+    "Tabulated",
+    "CiddorAir",
+    "RadioAir",
+    "glass_from_code",
+    "parse_glass_code",
+    "FRAUNHOFER_D",
+    "FRAUNHOFER_F",
+    "FRAUNHOFER_C",
+]
