@@ -394,3 +394,13 @@ def test_microwave_dielectric_and_cement():
     c = materials.get("optical-cement-1.56")
     assert complex(c.refractive_index(550 * NM)) == 1.56
     assert "invented" in c.reference and "invented" in d.reference
+
+
+def test_tantala_film_rows_and_interpolation():
+    # Gao, Lemarchand and Lequime 2012 (Opt. Express 20, 15734): kept rows exactly, and
+    # rows of the full table that were left out, within the stated 2e-4.
+    m = materials.get("ta2o5-film")
+    assert complex(m.refractive_index(550 * NM)) == pytest.approx(2.157262 + 0.000021j)
+    for wl_um, n_full in ((0.376, 2.275751), (0.626, 2.137176), (0.776, 2.114746),
+                          (1.026, 2.097787)):
+        assert float(m.refractive_index(wl_um * UM).real) == pytest.approx(n_full, abs=2e-4)

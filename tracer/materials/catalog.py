@@ -29,6 +29,7 @@ vacuum                     n = 1                                           all
 crown-517642 ...           generic glasses by glass code (Cauchy fit)      0.38-1.1
 microwave-dielectric-1.44  constant n = 1.44 (invented, typical)           1e3-1e6
 optical-cement-1.56        constant n = 1.56 (invented, typical)           0.35-2.5
+ta2o5-film                 Gao et al. 2012, tabulated n, k (coating)       0.35-1.5
 aluminium                  Rakić 1995, tabulated n, k                      0.207-12.4
 silver, gold               Johnson and Christy 1972, tabulated n, k        0.188-1.937
 =========================  ==============================================  ==========
@@ -52,7 +53,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from tracer.errors import MaterialError
-from tracer.materials import catalog_metals
+from tracer.materials import catalog_films, catalog_metals
 from tracer.materials.models import (
     CiddorAir,
     ConstantIndex,
@@ -242,6 +243,8 @@ _ENTRY_LIST = [
           "generic dense flint"),
     Entry("microwave-dielectric-1.44", _microwave_dielectric, (), "invented, n = 1.44"),
     Entry("optical-cement-1.56", _cement, ("cement",), "invented, n = 1.56"),
+    Entry("ta2o5-film", catalog_films.tantala_film, ("ta2o5", "tantala"),
+          "Gao, Lemarchand and Lequime 2012, coating layer"),
     Entry("aluminium", catalog_metals.aluminium, ("aluminum", "al"), "Rakić 1995"),
     Entry("silver", catalog_metals.silver, ("ag",), "Johnson and Christy 1972"),
     Entry("gold", catalog_metals.gold, ("au",), "Johnson and Christy 1972"),
@@ -314,7 +317,7 @@ def get(name: str) -> IndexModel:
     >>> get("fused silca")
     Traceback (most recent call last):
     ...
-    tracer.errors.MaterialError: unknown material 'fused silca' (did you mean 'fused-silica'?); known materials: fused-silica, caf2, sapphire-o, sapphire-e, mgf2-o, mgf2-e, water, pmma, polycarbonate, air, air-lab, air-radio, vacuum, crown-517642, flint-620364, dense-flint-755276, microwave-dielectric-1.44, optical-cement-1.56, aluminium, silver, gold, or glass:NNNVVV for a generic glass of that code
+    tracer.errors.MaterialError: unknown material 'fused silca' (did you mean 'fused-silica'?); known materials: fused-silica, caf2, sapphire-o, sapphire-e, mgf2-o, mgf2-e, water, pmma, polycarbonate, air, air-lab, air-radio, vacuum, crown-517642, flint-620364, dense-flint-755276, microwave-dielectric-1.44, optical-cement-1.56, ta2o5-film, aluminium, silver, gold, or glass:NNNVVV for a generic glass of that code
     """
     if not isinstance(name, str):
         raise MaterialError(f"a material name must be a string, got {name!r}")
