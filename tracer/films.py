@@ -96,7 +96,6 @@ from .fresnel import (
     Coefficients,
     _as_index,
     _forward_root,
-    _invariant_squared,
     cosine_of,
     power_factors,
 )
@@ -119,11 +118,13 @@ def _layer_matrix_terms(q, d, k0):
     em1 = np.expm1(x)
     h = em1 * 0.5
     h += 1.0  # (1 + e^{2iδ}) / 2 = 1 + expm1/2
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         F = em1 / x
-    small = x == 0
+    # |2iδ| < 1e-8 (zero thickness, exactly critical, denormal round-off): Taylor series
+    # expm1(x)/x = 1 + x/2 + x^2/6 + O(x^3), exact to round-off there.
+    small = _abs2(x) < 1e-16
     if np.any(small):
-        F = np.where(small, 1.0 + 0j, F)
+        F = np.where(small, 1.0 + x * (0.5 + x / 6.0), F)
     F *= kd
     F *= -1j  # now -i F
     return h, F, x
@@ -367,13 +368,15 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
         ) from None
 
     k0 = (2 * np.pi) / wl
-    beta2 = _invariant_squared(n_in, c_in)
     q_in = n_in * c_in
-    q_out = _forward_root(n_out * n_out - beta2)
+    # (n cos θ)^2 = (n^2 - n_in^2) + q_in^2: invariant n_in sin θ_in, exact for matched media
+    q_in2 = q_in * q_in
+    n_in2 = n_in * n_in
+    q_out = _forward_root((n_out * n_out - n_in2) + q_in2)
     ldata = []
     for n, d in lay:
         n2 = n * n
-        ldata.append((n, n2, _forward_root(n2 - beta2), d))
+        ldata.append((n, n2, _forward_root((n2 - n_in2) + q_in2), d))
 
     if all(f is True for f in flags):
         res = _coherent_powers(n_in, q_in, n_out, q_out, ldata, k0)

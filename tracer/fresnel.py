@@ -25,7 +25,8 @@ Quantities and conventions (ours, binding for the whole package)
 
   and ``Rs = |rs|^2``, ``Rp = |rp|^2``. :func:`amplitude_factor` gives the factor
   ``sqrt(T / |t|^2)`` that turns a field ratio into an amplitude whose square is power.
-* Branch of the transmitted cosine: ``q2 = n2 c2 = sqrt(n2^2 - (n1 sin θ1)^2)`` is taken
+* Branch of the transmitted cosine: ``q2 = n2 c2 = sqrt(n2^2 - (n1 sin θ1)^2)`` (computed as
+  ``sqrt((n2^2 - n1^2) + (n1 c1)^2)``, which keeps precision near grazing incidence) is taken
   with non-negative imaginary part (a field decaying away from the face beyond the
   critical angle, or decaying in an absorbing medium); when the imaginary part is
   negligible (below :data:`tracer.tolerances.BRANCH_IMAG_TOL`) the root with
@@ -181,14 +182,14 @@ def _forward_root(z: np.ndarray) -> np.ndarray:
     return q
 
 
-def _ncos_from_invariant(n: np.ndarray, beta2: np.ndarray) -> np.ndarray:
-    """``n cos θ = sqrt(n^2 - beta^2)`` on the forward branch; ``beta = n1 sin θ1``."""
-    return _forward_root(n * n - beta2)
+def _ncos_in_medium(n: np.ndarray, n1: np.ndarray, q1: np.ndarray) -> np.ndarray:
+    """``n cos θ`` in a medium of index ``n`` through the invariant ``n1 sin θ1``.
 
-
-def _invariant_squared(n1: np.ndarray, c1: np.ndarray) -> np.ndarray:
-    """``(n1 sin θ1)^2`` from ``n1`` and ``cos θ1``, written as ``(1 - c)(1 + c)``."""
-    return n1 * n1 * ((1.0 - c1) * (1.0 + c1))
+    ``(n cos θ)^2 = n^2 - n1^2 sin^2 θ1 = (n^2 - n1^2) + (n1 cos θ1)^2``: written this way
+    the result is exact for a medium matching the medium of incidence and keeps full
+    relative precision near grazing incidence. ``q1 = n1 cos θ1``.
+    """
+    return _forward_root((n * n - n1 * n1) + q1 * q1)
 
 
 def ncos_of(*, n, cos_angle) -> np.ndarray:
@@ -235,7 +236,7 @@ def ncos_transmitted(*, n1, n2, angle=None, cos_angle=None) -> np.ndarray:
     c1 = cosine_of(angle=angle, cos_angle=cos_angle)
     n1 = _as_index(n1)
     n2 = _as_index(n2)
-    return _ncos_from_invariant(n2, _invariant_squared(n1, c1))
+    return _ncos_in_medium(n2, n1, n1 * c1)
 
 
 def cos_transmitted(*, n1, n2, angle=None, cos_angle=None) -> np.ndarray:
@@ -371,7 +372,7 @@ def coefficients(*, n1, n2, angle=None, cos_angle=None) -> Coefficients:
     n2 = _as_index(n2)
     n1, n2, c1 = np.broadcast_arrays(n1, n2, c1)
     q1 = n1 * c1
-    q2 = _ncos_from_invariant(n2, _invariant_squared(n1, c1))
+    q2 = _ncos_in_medium(n2, n1, q1)
     c2 = q2 / n2
     den_s = q1 + q2  # n1 c1 + n2 c2
     a = n2 * c1
