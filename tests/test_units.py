@@ -242,3 +242,12 @@ def test_format_angle_round_trip():
     for x in (0.1, -1.0, 3.0):
         assert units.angle(units.format_angle(x)) == pytest.approx(x, rel=1e-5)
         assert units.angle(units.format_angle(x, unit="arcsec")) == pytest.approx(x, rel=1e-5)
+
+
+def test_parse_default_is_optional():
+    assert units.parse("25 mm", "length") == pytest.approx(0.025)
+    assert units.parse(25, "length") == pytest.approx(0.025)
+    assert units.parse(45, "angle") == pytest.approx(math.pi / 4)
+    assert units.parse(550, "wavelength") == pytest.approx(550e-9)
+    with pytest.raises(UnitError):
+        units.parse(25, "length", None)

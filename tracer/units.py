@@ -51,6 +51,7 @@ from tracer.errors import UnitError
 __all__ = [
     "SPEED_OF_LIGHT",
     "KINDS",
+    "STANDARD_DEFAULTS",
     "parse",
     "parse_array",
     "length",
@@ -219,7 +220,15 @@ def _to_si(number: float, unit: _Unit) -> float:
     return number * unit.scale + unit.offset
 
 
-def parse(value: object, kind: str, default: str | None) -> float:
+#: Unit of a bare number when :func:`parse` is not told one.
+STANDARD_DEFAULTS = {"length": "mm", "angle": "deg", "frequency": "GHz", "power": "W",
+                     "fraction": "1", "temperature": "degC", "pressure": "Pa",
+                     "wavelength": "nm"}
+
+_UNSET = object()
+
+
+def parse(value: object, kind: str, default: str | None = _UNSET) -> float:  # type: ignore[assignment]
     """Parse one quantity into an SI float.
 
     Parameters
@@ -228,8 +237,9 @@ def parse(value: object, kind: str, default: str | None) -> float:
         "<number> <unit>" or a bare number (in ``default``).
     kind : str
         One of :data:`KINDS`.
-    default : str or None
-        Unit of a bare number; ``None`` means a unit must be written.
+    default : str or None, optional
+        Unit of a bare number; ``None`` means a unit must be written. Omitted: the
+        kind's entry in :data:`STANDARD_DEFAULTS` (mm, deg, nm, W, ...).
 
     Returns
     -------
@@ -253,6 +263,8 @@ def parse(value: object, kind: str, default: str | None) -> float:
     tracer.errors.UnitError: expected an angle, got "45 mm" (a length); accepted units: deg, °, rad, mrad, urad, µrad, arcmin, arcsec, degree, degrees, ′, ″; a bare number means deg
     """
     _check_kind(kind)
+    if default is _UNSET:
+        default = STANDARD_DEFAULTS[kind]
     if default is not None:
         allowed = accepted_units(kind)
         if default not in allowed:

@@ -97,6 +97,9 @@ class IndexModel:
         where the numbers come from.
     """
 
+    #: Appended to range errors to point at a better material (e.g. radio-wave air).
+    _range_hint = ""
+
     def __init__(self, *, name: str, valid_range: tuple[float, float], reference: str):
         lo, hi = (float(valid_range[0]), float(valid_range[1]))
         if not (lo >= 0.0 and hi > lo):
@@ -142,7 +145,7 @@ class IndexModel:
             raise RangeError(
                 f"material {self._name!r}: wavelength {_fmt_wl(first)}{more} is outside "
                 f"its valid range {_fmt_wl(lo)} to {_fmt_wl(hi)} ({self._reference.split(';')[0]}); "
-                "choose a material valid there, or pass extrapolate=True"
+                f"choose a material valid there{self._range_hint}, or pass extrapolate=True"
             )
 
     def refractive_index(self, wavelength, *, extrapolate: bool = False) -> np.ndarray:
@@ -396,6 +399,7 @@ class CiddorAir(IndexModel):
         Metrology Toolbox (documentation of the Ciddor calculation).
     """
 
+    _range_hint = ' (for millimetre and longer waves, "air-radio")'
     _K0, _K1, _K2, _K3 = 238.0185, 5792105.0, 57.362, 167917.0
     _W = (295.235, 2.6422, -0.032380, 0.004028)
     _R = 8.314510
