@@ -251,3 +251,23 @@ def test_parse_default_is_optional():
     assert units.parse(550, "wavelength") == pytest.approx(550e-9)
     with pytest.raises(UnitError):
         units.parse(25, "length", None)
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.floats(min_value=1e-13, max_value=1e3, allow_nan=False, allow_infinity=False),
+       st.sampled_from([1.0, -1.0]))
+def test_format_length_round_trip_property(x, sign):
+    # formatting keeps 6 significant digits, so the round trip is exact to 5e-6
+    value = sign * x
+    assert units.length(units.format_length(value)) == pytest.approx(value, rel=5.1e-6)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.floats(min_value=1e6, max_value=1e16, allow_nan=False))
+def test_frequency_and_wavelength_are_reciprocal(f):
+    text = f"{f!r} Hz"
+    assert units.wavelength(text) * units.frequency(text) == pytest.approx(C, rel=1e-15)

@@ -22,7 +22,7 @@ sapphire-o, sapphire-e     Malitson and Dodge 1972, 3-term Sellmeier       0.2-5
 mgf2-o, mgf2-e             Dodge 1984, 3-term Sellmeier, 19 degC           0.2-7.0
 water                      Daimon and Masumura 2007, 4-term, 20.0 degC     0.182-1.129
 pmma, polycarbonate        Sultanova et al. 2009, 1-term Sellmeier         0.4368-1.052
-air                        Ciddor 1996 standard air (15 degC, dry, 450 ppm) 0.3-1.69
+air                        Ciddor 1996, 15 degC, 101325 Pa, dry, 450 ppm   0.3-1.69
 air-lab                    Ciddor 1996 at 20 degC, 101325 Pa, 50 % RH      0.3-1.69
 air-radio                  Smith and Weintraub 1953 dry term, 15 degC      1e3-1e9
 vacuum                     n = 1                                           all
@@ -33,6 +33,13 @@ ta2o5-film                 Gao et al. 2012, tabulated n, k (coating)       0.35-
 aluminium                  Rakić 1995, tabulated n, k                      0.207-12.4
 silver, gold               Johnson and Christy 1972, tabulated n, k        0.188-1.937
 =========================  ==============================================  ==========
+
+Aliases: "sapphire" and "mgf2" mean the ordinary ray (an isotropic stand-in for a
+uniaxial crystal: use the -o/-e entries when the optic axis matters); "silica" and
+"sio2" mean fused silica; "aluminum"/"al", "ag", "au" the metals.
+
+Models are shared: ``get`` returns the same object for the same name, so treat a
+model as read-only.
 
 Examples
 --------
