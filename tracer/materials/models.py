@@ -278,7 +278,8 @@ class Sellmeier(IndexModel):
     A : float [1]
         Constant term (1 for the usual form).
     name, valid_range [m], reference
-        See :class:`IndexModel`.
+        See :class:`IndexModel`; give the range the coefficients were fitted over
+        (default: unrestricted).
 
     Notes
     -----
@@ -288,7 +289,8 @@ class Sellmeier(IndexModel):
     """
 
     def __init__(self, B, C, *, A: float = 1.0, name: str = "sellmeier",
-                 valid_range: tuple[float, float], reference: str):
+                 valid_range: tuple[float, float] = (0.0, math.inf),
+                 reference: str = "Sellmeier formula (user coefficients)"):
         super().__init__(name=name, valid_range=valid_range, reference=reference)
         self.B = tuple(float(b) for b in B)
         self.C = tuple(float(c) for c in C)
@@ -329,7 +331,8 @@ class Tabulated(IndexModel):
     array(1.5+4.j)
     """
 
-    def __init__(self, wavelength, n, kappa=None, *, name: str = "table", reference: str):
+    def __init__(self, wavelength, n, kappa=None, *, name: str = "table",
+                 reference: str = "tabulated n, k (user values)"):
         wl = np.asarray(wavelength, dtype=float)
         nn = np.asarray(n, dtype=float)
         kk = np.zeros_like(nn) if kappa is None else np.asarray(kappa, dtype=float)
