@@ -366,3 +366,88 @@ def test_path_mueller_of_two_fold_mirror_periscope():
     assert np.allclose(jones, np.eye(2))
     assert pol.diattenuation(jones) == pytest.approx(0.0, abs=1e-12)
     assert pol.retardance(jones) == pytest.approx(0.0, abs=1e-7)
+
+
+def tir_coefficients(n1, n2, c1):
+    """Our convention's rs, rp beyond the critical angle (branch Im(n2 c2) >= 0)."""
+    q2 = np.sqrt(n2**2 - (n1**2) * (1 - c1**2) + 0j)
+    q2 = np.where(q2.imag < 0, -q2, q2)
+    c2 = q2 / n2
+    rs = (n1 * c1 - n2 * c2) / (n1 * c1 + n2 * c2)
+    rp = (n2 * c1 - n1 * c2) / (n2 * c1 + n1 * c2)
+    return rs, rp
+
+
+def test_fresnel_rhomb_is_a_quarter_wave_retarder():
+    # Two total internal reflections at 54.6 deg in glass of n = 1.51 give 45 deg each,
+    # a quarter wave in all (Hecht, Optics, 4th ed. 2002, Sec. 8.6, from memory). The
+    # relative phase of one TIR, Born & Wolf 1999 Eq. 1.5(60):
+    # tan(delta/2) = cos(t) sqrt(sin^2 t - n^2) / sin^2 t, n = n2/n1.
+    n_glass, theta = 1.51, np.radians(54.6)
+    nrel = 1.0 / n_glass
+    delta_one = 2 * np.arctan(np.cos(theta) * np.sqrt(np.sin(theta) ** 2 - nrel**2) / np.sin(theta) ** 2)
+    assert np.degrees(delta_one) == pytest.approx(45.0, abs=0.1)
+    k0 = np.array([[0.0, 0.0, 1.0]])
+    N = np.array([[np.sin(theta), 0.0, -np.cos(theta)]])  # outward normal of the first face
+    x0, y0 = pol.transverse_frame(k0, np.array([1.0, 1.0, 0.0]) / np.sqrt(2))  # 45 deg to the plane
+    M = pol.initial_field_matrix(x0, y0)
+    k, face = k0, N
+    for _ in range(2):  # second face is parallel, outward normal reversed
+        c1 = -np.sum(k * face, axis=1)
+        assert np.allclose(c1, np.cos(theta))
+        rs, rp = tir_coefficients(n_glass, 1.0, c1)
+        assert np.allclose(np.abs(rs), 1) and np.allclose(np.abs(rp), 1)
+        s, _ = pol.sp_basis(k, face)
+        k_out = k + 2 * c1[:, None] * face
+        M = pol.apply_interface(M, k, k_out, s, rs, rp)
+        k, face = k_out, -face
+    assert np.allclose(k, k0)
+    jones = pol.jones_in_frame(M, x0, y0)
+    assert pol.retardance(jones)[0] == pytest.approx(2 * delta_one, abs=1e-12)
+    assert pol.retardance(jones)[0] == pytest.approx(np.pi / 2, abs=0.004)
+    assert pol.diattenuation(jones)[0] == pytest.approx(0.0, abs=1e-12)
+    # linear light at 45 deg to the plane of incidence leaves circular (|S3| ~ 1)
+    S = pol.detector_stokes(M, pol.stokes_to_coherency(pol.linear(0.0)), x0, y0, directions=k)
+    assert abs(S[0, 3]) == pytest.approx(1.0, abs=1e-4)
+    assert pol.ray_power(M, pol.stokes_to_coherency(pol.unpolarised()))[0] == pytest.approx(1.0)
+
+
+def test_random_lossless_interfaces_conserve_power():
+    # R + T = 1 for random geometry, indices and input states (energy conservation,
+    # Born & Wolf Sec. 1.5.3); exercises sp_basis and apply_interface in 3D.
+    n = 200
+    k = random_units(n)
+    face = random_units(n)
+    face = np.where(np.sum(k * face, 1, keepdims=True) > 0, -face, face)  # normal against k
+    c1 = -np.sum(k * face, 1)
+    n1 = RNG.uniform(1.0, 1.9, n)
+    n2 = RNG.uniform(1.0, 1.9, n)
+    rs, rp, ts, tp, c2 = fresnel_ours(n1, n2, c1)
+    below = np.abs(c2.imag) < 1e-15
+    s, _ = pol.sp_basis(k, face)
+    k_r = k + 2 * c1[:, None] * face
+    mu = n1 / n2
+    k_t = mu[:, None] * k + (mu * c1 - c2.real)[:, None] * face
+    k_t /= np.linalg.norm(k_t, axis=1, keepdims=True)
+    f = np.sqrt(np.where(below, (n2 * c2).real / (n1 * c1), 0.0))
+    x, y = pol.transverse_frame(k, random_units(n))
+    M = pol.initial_field_matrix(x, y)
+    Mr = pol.apply_interface(M, k, k_r, s, rs, rp)
+    Mt = pol.apply_interface(M, k, k_t, s, ts * f, tp * f)
+    for S in (pol.unpolarised(), pol.linear(0.7), pol.elliptical(0.1, -0.4)):
+        J = pol.stokes_to_coherency(S)
+        assert np.allclose(pol.ray_power(Mr, J) + pol.ray_power(Mt, J), 1.0)
+    # children stay transverse
+    assert np.allclose(np.einsum("ni,nik->nk", k_r, Mr), 0, atol=1e-12)
+    assert np.allclose(np.einsum("ni,nik->nk", k_t[below], Mt[below]), 0, atol=1e-12)
+
+
+def test_path_mueller_reproduces_detector_stokes():
+    # Mueller matrix of a 3D path applied to the source Stokes vector equals the Stokes
+    # vector from the field matrix directly (M S_in = S_out, definition).
+    k = random_units(30)
+    x, y = pol.transverse_frame(k, random_units(30))
+    M = pol.initial_field_matrix(x, y) @ (RNG.normal(size=(30, 2, 2)) + 1j * RNG.normal(size=(30, 2, 2)))
+    S_in = pol.partial([1.0, 0.3, -0.2, 0.5])
+    S_out = pol.detector_stokes(M, pol.stokes_to_coherency(S_in), x, y)
+    assert np.allclose(np.einsum("nij,j->ni", pol.path_mueller(M, x, y), S_in), S_out)

@@ -50,6 +50,7 @@ from __future__ import annotations
 import numpy as np
 
 from tracer.errors import TracerError
+from tracer.tolerances import AXIS_PARALLEL_SIN, NORMAL_INCIDENCE_SIN
 
 __all__ = [
     "DetectorError",
@@ -97,7 +98,7 @@ def plane_frame(det):
     x0 = np.linalg.norm(x)
     x = x - np.dot(x, n) * n
     nx = np.linalg.norm(x)
-    if not np.isfinite(nx) or nx <= 1e-9 * max(x0, 1e-300):
+    if not np.isfinite(nx) or nx <= AXIS_PARALLEL_SIN * max(x0, 1e-300):
         raise _err(
             det,
             f"x_axis {np.asarray(det.x_axis).tolist()} is parallel to the normal "
@@ -240,7 +241,7 @@ def far_field_frame(det, directions):
     d = d / np.linalg.norm(d, axis=1, keepdims=True)
     phi_vec = np.cross(n, d)
     norm = np.linalg.norm(phi_vec, axis=1)
-    pole = norm < 1e-12
+    pole = norm < NORMAL_INCIDENCE_SIN
     e_phi = np.where(pole[:, None], y, phi_vec / np.where(pole, 1.0, norm)[:, None])
     e_theta = np.cross(e_phi, d)
     e_theta /= np.linalg.norm(e_theta, axis=1, keepdims=True)

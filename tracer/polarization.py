@@ -104,6 +104,7 @@ __all__ = [
     "detector_stokes",
     "jones_in_frame",
     "mueller_from_jones",
+    "path_mueller",
     "diattenuation",
     "retardance",
     "polar_decomposition",
@@ -258,7 +259,7 @@ def elliptical(azimuth, ellipticity):
     """
     psi = np.asarray(azimuth, dtype=float)
     chi = np.asarray(ellipticity, dtype=float)
-    if np.any(np.abs(chi) > np.pi / 4 + 1e-12):
+    if np.any(np.abs(chi) > np.pi / 4 + STOKES_DOP_TOL):
         raise PolarizationError(
             f"ellipticity angle must lie in [-pi/4, pi/4] rad (|b/a| <= 1), got {ellipticity!r}"
         )
@@ -669,6 +670,25 @@ def mueller_from_jones(jones):
     # Kronecker product T (x) T*, batched: K[(i,j),(k,l)] = T[i,k] T*[j,l]
     K = np.einsum("...ik,...jl->...ijkl", T, T.conj()).reshape(T.shape[:-2] + (4, 4))
     return (_A @ K @ _A_INV).real
+
+
+def path_mueller(M, out_x, out_y):
+    """Mueller matrix of a path: :func:`mueller_from_jones` of :func:`jones_in_frame`.
+
+    Parameters
+    ----------
+    M : (..., 3, 2) complex
+        Field matrices at the end of the path.
+    out_x, out_y : (3,) or (..., 3) float [1]
+        Output frame (``out_x x out_y = k`` for our handedness).
+
+    Returns
+    -------
+    (..., 4, 4) float
+        Maps the source Stokes vector (input basis) to the output Stokes vector
+        [relative power].
+    """
+    return mueller_from_jones(jones_in_frame(M, out_x, out_y))
 
 
 def polar_decomposition(jones):

@@ -73,7 +73,7 @@ import numpy as np
 
 from tracer import polarization as pol
 from tracer.errors import TracerError
-from tracer.tolerances import NORMAL_INCIDENCE_SIN
+from tracer.tolerances import AXIS_PARALLEL_SIN, NORMAL_INCIDENCE_SIN
 
 __all__ = [
     "SourceError",
@@ -195,7 +195,7 @@ def source_frame(source):
     nx0 = np.linalg.norm(x)
     x = x - np.dot(x, d) * d
     nx = np.linalg.norm(x)
-    if not np.isfinite(nx) or nx <= 1e-9 * max(nx0, 1e-300):
+    if not np.isfinite(nx) or nx <= AXIS_PARALLEL_SIN * max(nx0, 1e-300):
         raise _err(
             source,
             f"x_axis {np.asarray(source.x_axis).tolist()} is parallel to direction "

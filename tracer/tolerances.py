@@ -100,3 +100,10 @@ __all__ += [
 WAVELENGTH_RANGE_RTOL = 1e-9
 
 __all__ += ["WAVELENGTH_RANGE_RTOL"]
+
+#: Sources and detectors: a reference axis (``x_axis``) whose component across the
+#: direction or normal is below this fraction of its length counts as parallel to it
+#: (no frame can be built) [1].
+AXIS_PARALLEL_SIN = 1e-9
+
+__all__ += ["AXIS_PARALLEL_SIN"]
