@@ -7,4 +7,14 @@ The package is organised one concept per module (see ``DEVELOPERS.md``):
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__"]
+__all__ = ["__version__", "trace", "trace_sequence"]
+
+_LAZY = {"trace": "tracer.engine", "trace_sequence": "tracer.engine"}
+
+
+def __getattr__(name):  # lazy imports keep ``import tracer`` light
+    if name in _LAZY:
+        import importlib
+
+        return getattr(importlib.import_module(_LAZY[name]), name)
+    raise AttributeError(f"module 'tracer' has no attribute {name!r}")

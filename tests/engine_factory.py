@@ -1,0 +1,149 @@
+"""Small scene factory for the engine tests: builds Scene objects directly in Python."""
+
+from __future__ import annotations
+
+import numpy as np
+
+try:  # the project's geometry when it imports; a minimal stand-in otherwise
+    from tracer.geometry.solid import ConvexSolid
+except ImportError:  # pragma: no cover - while the geometry package is being written
+    ConvexSolid = None
+from tracer.materials.models import ConstantIndex
+from tracer.scene.model import (
+    DetectorSpec,
+    FaceTreatment,
+    GapSpec,
+    Polarization,
+    Scene,
+    SolidSpec,
+    SourceSpec,
+    Spectrum,
+    TraceSettings,
+)
+
+AIR = ConstantIndex(1.0, name="air")
+
+
+class _Convex:
+    """Minimal convex solid (planes only) with the geometry contract the engine uses."""
+
+    is_convex = True
+
+    def __init__(self, normals, offsets, names):
+        n = np.asarray(normals, float)
+        nn = np.linalg.norm(n, axis=1)
+        self.face_normals = n / nn[:, None]
+        self.face_offsets = np.asarray(offsets, float) / nn
+        self.face_names = tuple(names)
+        verts = []
+        F = len(n)
+        for i in range(F):
+            for j in range(i + 1, F):
+                for k in range(j + 1, F):
+                    A = self.face_normals[[i, j, k]]
+                    if abs(np.linalg.det(A)) < 1e-12:
+                        continue
+                    x = np.linalg.solve(A, self.face_offsets[[i, j, k]])
+                    if np.all(self.face_normals @ x <= self.face_offsets + 1e-12):
+                        verts.append(x)
+        v = np.array(verts)
+        self.bounds = np.array([v.min(axis=0), v.max(axis=0)])
+
+
+def _solid(normals, offsets, names):
+    if ConvexSolid is not None:
+        return ConvexSolid(normals, offsets, names)
+    return _Convex(normals, offsets, names)
+
+
+def box(lo, hi, names=("px", "py", "pz", "mx", "my", "mz")):
+    lo, hi = np.asarray(lo, float), np.asarray(hi, float)
+    n = np.vstack([np.eye(3), -np.eye(3)])
+    d = np.concatenate([hi, -lo])
+    return _solid(n, d, list(names))
+
+
+def prism(vertices_xy, z0, z1, names):
+    """Right prism over a convex polygon (CCW in x-y) between z0 and z1.
+
+    names: one per polygon edge (edge i from vertex i to i+1), then "bottom", "top".
+    """
+    v = np.asarray(vertices_xy, float)
+    normals, offsets = [], []
+    for i in range(len(v)):
+        a, b = v[i], v[(i + 1) % len(v)]
+        e = b - a
+        nrm = np.array([e[1], -e[0], 0.0])
+        nrm /= np.linalg.norm(nrm)
+        normals.append(nrm)
+        offsets.append(nrm[:2] @ a)
+    normals += [np.array([0, 0, -1.0]), np.array([0, 0, 1.0])]
+    offsets += [-z0, z1]
+    return _solid(np.array(normals), np.array(offsets), list(names) + ["bottom", "top"])
+
+
+def solid(name, geometry, n=1.5, faces=None, material=None):
+    mat = material if material is not None else ConstantIndex(n, name=f"n{n}")
+    return SolidSpec(name=name, material=mat, material_name=mat.name, geometry=geometry,
+                     faces=faces or {}, kind="custom")
+
+
+def beam(name="src", position=(0, 0, -0.01), direction=(0, 0, 1), x_axis=(1, 0, 0), rays=1,
+         diameter=0.0, wavelengths=(550e-9,), weights=None, stokes=(1, 0, 0, 0), power=1.0,
+         kind="collimated", half_angle=0.0, bandwidth=None, sampling="grid", inside=None):
+    wl = np.asarray(wavelengths, float)
+    w = np.full(len(wl), 1.0 / len(wl)) if weights is None else np.asarray(weights, float)
+    return SourceSpec(
+        name=name, kind=kind, position=np.asarray(position, float),
+        direction=np.asarray(direction, float) / np.linalg.norm(direction),
+        x_axis=np.asarray(x_axis, float), power=power, rays=rays,
+        spectrum=Spectrum(wl, w, bandwidth), polarization=Polarization(np.asarray(stokes, float)),
+        aperture="circle", size=(diameter, 0.0), half_angle=half_angle, sampling=sampling,
+        inside_solid=inside,
+    )
+
+
+def plane(name, position, normal, size=(0.1, 0.1), x_axis=None, two_sided=False):
+    normal = np.asarray(normal, float)
+    if x_axis is None:
+        x_axis = np.array([1.0, 0, 0]) if abs(normal[0]) < 0.9 else np.array([0, 1.0, 0])
+    return DetectorSpec(name=name, kind="plane", position=np.asarray(position, float),
+                        normal=normal, x_axis=np.asarray(x_axis, float), size=size,
+                        pixels=(8, 8), two_sided=two_sided)
+
+
+def far_field(name="sky", normal=(0, 0, 1)):
+    return DetectorSpec(name=name, kind="far_field", position=np.zeros(3),
+                        normal=np.asarray(normal, float), x_axis=np.array([1.0, 0, 0]),
+                        size=(0.0, 0.0), pixels=(8, 8))
+
+
+def gap(name, a, fa, b, fb, thickness, n=1.0, coherence="auto"):
+    med = ConstantIndex(n, name=f"gap{n}")
+    return GapSpec(name=name, solid_a=a, face_a=fa, solid_b=b, face_b=fb, medium=med,
+                   medium_name=med.name, thickness=thickness, coherence=coherence)
+
+
+def scene(solids=(), sources=(), detectors=(), gaps=(), ambient=AIR, seed=1, threshold=1e-6,
+          max_events=64, mode="tree", sequence=None, title="test"):
+    return Scene(
+        path=None, title=title, dimension=3, ambient=ambient, ambient_name=ambient.name,
+        spectrum=Spectrum(np.array([550e-9]), np.array([1.0])), seed=seed,
+        settings=TraceSettings(mode=mode, power_threshold=threshold, max_events=max_events,
+                               sequence=sequence),
+        solids={s.name: s for s in solids}, gaps={g.name: g for g in gaps},
+        sources={s.name: s for s in sources}, detectors={d.name: d for d in detectors},
+        requirements={},
+    )
+
+
+def plate_scene(n=1.5, thickness=1e-3, rays=1, threshold=1e-12, **kw):
+    plate = solid("plate", box((-5e-3, -5e-3, 0), (5e-3, 5e-3, thickness),
+                               names=("right", "back", "exit", "left", "front", "entrance")), n=n)
+    return scene(
+        solids=[plate],
+        sources=[beam(rays=rays, diameter=2e-3 if rays > 1 else 0.0, **kw)],
+        detectors=[plane("camera", (0, 0, 0.01), (0, 0, -1)),
+                   plane("back", (0, 0, -0.005), (0, 0, 1))],
+        threshold=threshold,
+    )

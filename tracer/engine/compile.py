@@ -1,0 +1,278 @@
+"""Scene -> geometry arrays the event loop works on.
+
+:func:`compile_scene` turns a :class:`tracer.scene.model.Scene` into a
+:class:`CompiledScene`: the planes of all convex solids packed in one padded array
+(so that one broadcasting expression clips a ray against every candidate solid),
+axis-aligned bounding boxes for the broad phase, a global face table (solid faces
+first, then plane detectors) with each face's treatment and gap partner, and the
+media table (ambient, solids, gap media) used for refractive indices.
+
+Global face ids: ``0 .. F-1`` are solid faces in scene order, ``F .. F+D-1`` the plane
+detectors. Media: index 0 is the ambient, ``1 + s`` solid ``s``, then one per gap.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import TracerError
+from ..tolerances import PLANE_EPS
+
+__all__ = [
+    "CompiledScene",
+    "compile_scene",
+    "UNCOATED",
+    "COATED",
+    "MIRROR",
+    "ABSORBER",
+    "DETECTOR",
+    "EngineError",
+]
+
+UNCOATED, COATED, MIRROR, ABSORBER, DETECTOR = range(5)
+_TREATMENT_CODE = {"uncoated": UNCOATED, "stack": COATED, "ideal": COATED,
+                   "mirror": COATED, "absorber": ABSORBER}
+
+
+class EngineError(TracerError, ValueError):
+    """A scene or setting the engine cannot trace (unknown face, bad sequence ...)."""
+
+
+@dataclass
+class CompiledScene:
+    """Geometry and optics of a scene as arrays (see module docstring)."""
+
+    scene: object
+    solid_names: list
+    geometries: list
+    convex: np.ndarray  # (S,) bool
+    plane_n: np.ndarray  # (S, P, 3)
+    plane_d: np.ndarray  # (S, P)
+    plane_face: np.ndarray  # (S, P) global face id, -1 padding
+    box_lo: np.ndarray  # (S, 3)
+    box_hi: np.ndarray  # (S, 3)
+    face_names: list  # solid faces then detectors
+    face_solid: np.ndarray  # (F+D,) -1 for detectors
+    face_local: np.ndarray
+    face_normal: np.ndarray  # (F+D, 3) outward normal / detector normal
+    face_offset: np.ndarray
+    face_code: np.ndarray
+    face_treatment: list
+    face_gap: np.ndarray  # gap index or -1
+    face_partner: np.ndarray  # partner global face id or -1
+    gaps: list
+    media: list  # index models
+    media_names: list
+    n_faces: int  # solid faces
+    detector_names: list
+    det_position: np.ndarray
+    det_normal: np.ndarray
+    det_x: np.ndarray
+    det_y: np.ndarray
+    det_half: np.ndarray  # (D, 2)
+    det_two_sided: np.ndarray
+    far_fields: list  # DetectorSpec of far-field detectors
+    face_index: dict = field(default_factory=dict)
+    _n_cache: dict = field(default_factory=dict)
+
+    @property
+    def n_solids(self) -> int:
+        return len(self.solid_names)
+
+    def index_table(self, wavelengths: np.ndarray) -> np.ndarray:
+        """Refractive index of every medium at ``wavelengths`` [m] -> (media, W) complex."""
+        wl = np.asarray(wavelengths, dtype=float)
+        key = wl.tobytes()
+        tab = self._n_cache.get(key)
+        if tab is None:
+            tab = np.empty((len(self.media), len(wl)), dtype=complex)
+            for i, m in enumerate(self.media):
+                tab[i] = np.broadcast_to(
+                    np.asarray(m.refractive_index(wl), dtype=complex), wl.shape
+                )
+            self._n_cache[key] = tab
+        return tab
+
+    def face_id(self, name: str) -> int:
+        """Global id of ``"solid.face"`` or a detector name."""
+        try:
+            return self.face_index[name]
+        except KeyError:
+            import difflib
+
+            close = difflib.get_close_matches(name, list(self.face_index), n=3)
+            hint = f" (did you mean {', '.join(close)}?)" if close else ""
+            raise EngineError(f"unknown face {name!r}{hint}; expected 'solid.face'") from None
+
+
+def _unit(v) -> np.ndarray:
+    v = np.asarray(v, dtype=float)
+    return v / np.linalg.norm(v)
+
+
+def compile_scene(scene) -> CompiledScene:
+    """Pack ``scene`` into arrays for the event loop.
+
+    Parameters
+    ----------
+    scene : tracer.scene.model.Scene
+
+    Returns
+    -------
+    CompiledScene
+    """
+    names = list(scene.solids)
+    geoms = [scene.solids[n].geometry for n in names]
+    S = len(names)
+    pmax = max([len(np.asarray(g.face_offsets)) for g in geoms] + [1])
+    plane_n = np.zeros((S, pmax, 3))
+    plane_d = np.ones((S, pmax))  # padding: 0 . x <= 1 always holds
+    plane_face = np.full((S, pmax), -1, dtype=np.int64)
+    convex = np.zeros(S, dtype=bool)
+    lo = np.zeros((S, 3))
+    hi = np.zeros((S, 3))
+    face_names, face_solid, face_local, fn, fo, code, treat = [], [], [], [], [], [], []
+    for s, (name, g) in enumerate(zip(names, geoms)):
+        spec = scene.solids[name]
+        normals = np.asarray(g.face_normals, dtype=float)
+        offsets = np.asarray(g.face_offsets, dtype=float)
+        gid0 = len(face_names)
+        for j, fname in enumerate(g.face_names):
+            face_names.append(f"{name}.{fname}")
+            face_solid.append(s)
+            face_local.append(j)
+            t = spec.faces.get(fname)
+            if t is None:
+                from ..scene.model import FaceTreatment
+
+                t = FaceTreatment()
+            treat.append(t)
+            c = _TREATMENT_CODE.get(t.kind)
+            if c is None:
+                raise EngineError(f"solid {name!r} face {fname!r}: unknown treatment {t.kind!r}")
+            if t.kind == "mirror" and t.coating is None:
+                c = MIRROR
+            code.append(c)
+        fn.append(normals)
+        fo.append(offsets)
+        convex[s] = bool(getattr(g, "is_convex", True))
+        k = len(offsets)
+        plane_n[s, :k] = normals
+        plane_d[s, :k] = offsets
+        plane_face[s, :k] = gid0 + np.arange(k)
+        b = np.asarray(g.bounds, dtype=float)
+        pad = 1e-9 + 1e-9 * np.abs(b).max()
+        lo[s], hi[s] = b[0] - pad, b[1] + pad
+    n_faces = len(face_names)
+    face_normal = np.concatenate(fn) if fn else np.zeros((0, 3))
+    face_offset = np.concatenate(fo) if fo else np.zeros(0)
+
+    # detectors ---------------------------------------------------------------------
+    det_names, dpos, dnor, dx, dy, dhalf, dtwo, far = [], [], [], [], [], [], [], []
+    for dname, d in scene.detectors.items():
+        if d.kind == "far_field":
+            far.append(d)
+            continue
+        n = _unit(d.normal)
+        x = np.asarray(d.x_axis, dtype=float)
+        x = _unit(x - np.dot(x, n) * n)
+        det_names.append(dname)
+        dpos.append(np.asarray(d.position, dtype=float))
+        dnor.append(n)
+        dx.append(x)
+        dy.append(np.cross(n, x))
+        dhalf.append(np.asarray(d.size, dtype=float) / 2)
+        dtwo.append(bool(d.two_sided))
+    D = len(det_names)
+    all_names = face_names + det_names
+    face_solid = np.array(face_solid + [-1] * D, dtype=np.int64)
+    face_local = np.array(face_local + list(range(D)), dtype=np.int64)
+    dnor_a = np.array(dnor).reshape(D, 3)
+    dpos_a = np.array(dpos).reshape(D, 3)
+    face_normal = np.concatenate([face_normal, dnor_a])
+    face_offset = np.concatenate([face_offset, np.einsum("ij,ij->i", dnor_a, dpos_a)])
+    code = np.array(code + [DETECTOR] * D, dtype=np.int64)
+    treat = treat + [None] * D
+    index = {n: i for i, n in enumerate(all_names)}
+
+    # media and gaps ---------------------------------------------------------------
+    media = [scene.ambient] + [scene.solids[n].material for n in names]
+    media_names = [scene.ambient_name] + [scene.solids[n].material_name for n in names]
+    face_gap = np.full(len(all_names), -1, dtype=np.int64)
+    partner = np.full(len(all_names), -1, dtype=np.int64)
+    gaps = []
+    for gname, gap in scene.gaps.items():
+        try:
+            fa = index[f"{gap.solid_a}.{gap.face_a}"]
+            fb = index[f"{gap.solid_b}.{gap.face_b}"]
+        except KeyError as exc:
+            raise EngineError(f"gap {gname!r}: unknown face {exc.args[0]!r}") from None
+        g = len(gaps)
+        gaps.append(gap)
+        media.append(gap.medium)
+        media_names.append(gap.medium_name)
+        for f, p in ((fa, fb), (fb, fa)):
+            if face_gap[f] >= 0:
+                raise EngineError(f"gap {gname!r}: face {all_names[f]!r} already in a gap")
+            face_gap[f] = g
+            partner[f] = p
+    return CompiledScene(
+        scene=scene,
+        solid_names=names,
+        geometries=geoms,
+        convex=convex,
+        plane_n=plane_n,
+        plane_d=plane_d,
+        plane_face=plane_face,
+        box_lo=lo,
+        box_hi=hi,
+        face_names=all_names,
+        face_solid=face_solid,
+        face_local=face_local,
+        face_normal=face_normal,
+        face_offset=face_offset,
+        face_code=code,
+        face_treatment=treat,
+        face_gap=face_gap,
+        face_partner=partner,
+        gaps=gaps,
+        media=media,
+        media_names=media_names,
+        n_faces=n_faces,
+        detector_names=det_names,
+        det_position=dpos_a,
+        det_normal=dnor_a,
+        det_x=np.array(dx).reshape(D, 3),
+        det_y=np.array(dy).reshape(D, 3),
+        det_half=np.array(dhalf).reshape(D, 2),
+        det_two_sided=np.array(dtwo, dtype=bool),
+        far_fields=far,
+        face_index=index,
+    )
+
+
+def on_partner_face(cs: CompiledScene, points: np.ndarray, partner: np.ndarray) -> np.ndarray:
+    """Whether ``points`` (already on the partner's plane) lie within the partner face.
+
+    For convex partners every other plane of the partner solid must hold (the face
+    polygon of a convex solid is its plane clipped by the others). Non-convex partners
+    are taken to cover the whole footprint.
+
+    Parameters
+    ----------
+    points : (N, 3) float [m]
+    partner : (N,) int
+        Global face ids.
+    """
+    s = cs.face_solid[partner]
+    ok = np.ones(len(points), dtype=bool)
+    cv = cs.convex[s]
+    if cv.any():
+        pn = cs.plane_n[s[cv]]
+        pd = cs.plane_d[s[cv]]
+        side = np.einsum("npj,nj->np", pn, points[cv]) - pd
+        side[cs.plane_face[s[cv]] == partner[cv, None]] = -np.inf
+        ok[cv] = (side <= 1e3 * PLANE_EPS).all(axis=1)
+    return ok

@@ -1,0 +1,293 @@
+"""What happens at a face: coefficients, child directions and fields.
+
+For every ray that meets a solid face, :func:`split` classifies the event and returns
+the reflected child (always present) and the transmitted child (where a wave
+propagates on the far side):
+
+* ambient -> solid, solid -> ambient: bare Fresnel interface
+  (:func:`tracer.fresnel.coefficients`) or the face's coating
+  (:func:`tracer.coatings.face_response`);
+* solid A -> solid B across a gap or cemented joint: the layer stack
+  ``A | A's coating | gap medium, local thickness | B's coating reversed | B``
+  (:func:`tracer.coatings.gap_response`). The local thickness is the distance from the
+  hit point to B's plane (wedged gaps). The transmitted child leaves B's face at the
+  point across the gap (the hit point projected on B's plane): the lateral shift inside
+  a thin gap is neglected. Beyond the gap medium's critical angle the transmitted child
+  is a "tunnel" event and the reflected one "TIR"; a ray from A that lands outside B's
+  face footprint meets an ordinary face;
+* a perfect mirror (rs = -1, rp = +1, no transmission).
+
+Coefficients are evaluated per ray, from its own angle of incidence, vacuum
+wavelength (the media's indices at that wavelength) and field. The field matrix is
+carried by power-normalised amplitudes (``|t~|^2 = T``, :func:`tracer.fresnel.amplitude_factor`),
+so each child's power is ``Rs Ps + Rp Pp`` (or the T analogue) with ``Ps``, ``Pp``
+the parent's power in its s and p components. Whatever the children do not carry is
+booked as absorbed on the face as ``parent - reflected - transmitted`` (exactly zero up
+to round-off for lossless interfaces), so the ledger closes.
+
+Directions follow Snell's law in vector form with the invariant ``n sin(theta)``:
+``k_t = (n1/n2) (k - c1 n) + c2 n`` with ``c2 = sqrt(1 - (n1/n2)^2 (1 - c1^2))``
+(Eq. 4.46-type vector form in Hecht, "Optics", 5th ed., 2017; recalled from memory),
+``n`` the unit normal pointing into the second medium. In absorbing media the real
+parts of the indices fix the directions (the inhomogeneous-wave tilt is neglected);
+the coefficients use the complex indices.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import fresnel
+from .. import polarization as pol
+from .compile import COATED, MIRROR, UNCOATED, CompiledScene, on_partner_face
+from .paths import REFLECT, TIR, TRANSMIT, TUNNEL
+
+__all__ = ["Split", "split", "reflect_direction", "refract_direction"]
+
+
+def _dot(a, b):
+    return a[..., 0] * b[..., 0] + a[..., 1] * b[..., 1] + a[..., 2] * b[..., 2]
+
+
+def reflect_direction(k, normal, cos1):
+    """Mirror ``k`` about the plane of ``normal``; ``cos1 = k . normal`` [1]."""
+    return k - (2.0 * cos1)[:, None] * normal
+
+
+def refract_direction(k, normal, cos1, ratio):
+    """Refracted unit direction (Snell, vector form) and a flag where it exists.
+
+    Parameters
+    ----------
+    k : (N, 3) float [1]
+        Incident direction.
+    normal : (N, 3) float [1]
+        Unit normal pointing into the second medium (``k . normal = cos1 >= 0``).
+    cos1 : (N,) float [1]
+    ratio : (N,) float [1]
+        ``Re(n1) / Re(n2)``.
+
+    Returns
+    -------
+    k_t : (N, 3) float
+    ok : (N,) bool
+        False beyond the critical angle (``k_t`` is then the grazing direction).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> k = np.array([[np.sin(0.5), 0.0, np.cos(0.5)]])
+    >>> kt, ok = refract_direction(k, np.array([[0.0, 0, 1]]), np.cos([0.5]), np.array([1 / 1.5]))
+    >>> bool(np.isclose(kt[0, 0] * 1.5, np.sin(0.5))), bool(ok[0])
+    True True
+    """
+    sin2 = ratio**2 * ((1.0 - cos1) * (1.0 + cos1))
+    ok = sin2 <= 1.0
+    c2 = np.sqrt(np.clip(1.0 - sin2, 0.0, None))
+    kt = ratio[:, None] * (k - cos1[:, None] * normal) + c2[:, None] * normal
+    kt /= np.linalg.norm(kt, axis=1, keepdims=True)
+    return kt, ok
+
+
+@dataclass
+class Split:
+    """Children of an interface event (arrays over the rays that hit interfaces).
+
+    ``r_*`` is the reflected child, ``t_*`` the transmitted child (meaningful where
+    ``t_exists``); ``absorbed`` [W] is booked on the face.
+    """
+
+    r_dir: np.ndarray
+    r_field: np.ndarray
+    r_power: np.ndarray
+    r_kind: np.ndarray
+    t_exists: np.ndarray
+    t_dir: np.ndarray
+    t_field: np.ndarray
+    t_power: np.ndarray
+    t_kind: np.ndarray
+    t_origin: np.ndarray
+    t_medium: np.ndarray
+    t_face: np.ndarray
+    absorbed: np.ndarray
+
+
+class _Coef:
+    """Mutable holder of per-ray coefficients filled group by group."""
+
+    def __init__(self, n):
+        self.rs = np.zeros(n, complex)
+        self.rp = np.zeros(n, complex)
+        self.ts = np.zeros(n, complex)
+        self.tp = np.zeros(n, complex)
+        self.Rs = np.zeros(n)
+        self.Rp = np.zeros(n)
+        self.Ts = np.zeros(n)
+        self.Tp = np.zeros(n)
+
+    def fill(self, sel, c):
+        self.rs[sel] = c.rs
+        self.rp[sel] = c.rp
+        self.Rs[sel] = c.Rs
+        self.Rp[sel] = c.Rp
+        self.Ts[sel] = c.Ts
+        self.Tp[sel] = c.Tp
+        # power-normalised transmitted amplitudes (|t~|^2 = T)
+        self.ts[sel] = c.ts * fresnel.amplitude_factor(T=c.Ts, t=c.ts)
+        self.tp[sel] = c.tp * fresnel.amplitude_factor(T=c.Tp, t=c.tp)
+
+
+def _coated(treatment, *, n_inside, n_outside, wavelength, cos_angle, from_inside):
+    from .. import coatings
+
+    return coatings.face_response(
+        treatment, n_inside=n_inside, n_outside=n_outside, wavelength=wavelength,
+        cos_angle=cos_angle, from_inside=from_inside,
+    )
+
+
+def _gap(cs, g, *, from_a, n1, n2, n_gap, thickness, wavelength, cos_angle, coherent):
+    from .. import coatings
+
+    gap = cs.gaps[g]
+    fa = cs.face_index[f"{gap.solid_a}.{gap.face_a}"]
+    fb = cs.face_index[f"{gap.solid_b}.{gap.face_b}"]
+    ta, tb = cs.face_treatment[fa], cs.face_treatment[fb]
+    first, second = (ta, tb) if from_a else (tb, ta)
+    return coatings.gap_response(
+        n_first=n1, treatment_first=first, n_gap=n_gap, thickness=thickness,
+        treatment_second=second, n_second=n2, wavelength=wavelength, cos_angle=cos_angle,
+        coherent=coherent,
+    )
+
+
+def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
+          wavelength, wl_index, ntab, coherency, coherence_length) -> Split:
+    """Children of rays meeting solid faces (see module docstring).
+
+    Parameters
+    ----------
+    direction, position : (N, 3) float [1], [m]
+    field : (N, 3, 2) complex [sqrt(W)]
+    power : (N,) float [W]
+    medium, face : (N,) int
+        Medium the ray travels in (-1 ambient) and the global face id it meets.
+    wavelength : (N,) float [m]
+    wl_index : (N,) int
+        Column of ``ntab``.
+    ntab : (media, W) complex
+        Index table (:meth:`CompiledScene.index_table`).
+    coherency : (N, 2, 2) complex
+        Source coherency of each ray.
+    coherence_length : (N,) float [m]
+        Source coherence length (decides coherent vs incoherent gaps in ``auto``).
+    """
+    n = len(power)
+    k = direction
+    solid = cs.face_solid[face]
+    nf = cs.face_normal[face]
+    inside = medium == solid
+    gap = cs.face_gap[face]
+    across = inside & (gap >= 0)
+    t_face = face.copy()
+    t_origin = position.copy()
+    local_d = np.zeros(n)
+    if across.any():
+        ia = np.nonzero(across)[0]
+        pf = cs.face_partner[face[ia]]
+        nb = cs.face_normal[pf]
+        dist = _dot(nb, position[ia]) - cs.face_offset[pf]
+        on_b = position[ia] - dist[:, None] * nb
+        ok = on_partner_face(cs, on_b, pf)
+        across[ia[~ok]] = False
+        ia, pf, on_b, dist = ia[ok], pf[ok], on_b[ok], dist[ok]
+        t_face[ia] = pf
+        t_origin[ia] = on_b
+        local_d[ia] = np.abs(dist)
+    n1 = ntab[medium + 1, wl_index]
+    solid_med = ntab[solid + 1, wl_index]
+    partner_solid = np.where(across, cs.face_solid[np.where(across, cs.face_partner[face], 0)], -1)
+    n2 = np.where(inside, np.where(across, ntab[partner_solid + 1, wl_index], ntab[0, wl_index]),
+                  solid_med)
+    t_medium = np.where(inside, np.where(across, partner_solid, -1), solid)
+    nhat = np.where(inside[:, None], nf, -nf)
+    cos1 = np.clip(_dot(k, nhat), 0.0, 1.0)
+
+    code = cs.face_code[face]
+    co = _Coef(n)
+    plain = (code == UNCOATED) & ~across
+    if plain.any():
+        co.fill(plain, fresnel.coefficients(n1=n1[plain], n2=n2[plain], cos_angle=cos1[plain]))
+    mirror = (code == MIRROR) & ~across
+    if mirror.any():
+        co.rs[mirror], co.rp[mirror] = -1.0, 1.0
+        co.Rs[mirror], co.Rp[mirror] = 1.0, 1.0
+    coated = (code == COATED) & ~across
+    if coated.any():
+        for f in np.unique(face[coated]):
+            sel = coated & (face == f)
+            n_in_solid = np.where(inside[sel], n1[sel], n2[sel])
+            n_out = np.where(inside[sel], n2[sel], n1[sel])
+            co.fill(sel, _coated(cs.face_treatment[f], n_inside=n_in_solid, n_outside=n_out,
+                                 wavelength=wavelength[sel], cos_angle=cos1[sel],
+                                 from_inside=inside[sel]))
+    beyond_gap = np.zeros(n, dtype=bool)
+    if across.any():
+        for g in np.unique(gap[across]):
+            sel = across & (gap == g)
+            spec = cs.gaps[g]
+            n_gap = ntab[cs.n_solids + 1 + g, wl_index[sel]]
+            from_a = cs.face_names[face[np.nonzero(sel)[0][0]]] == f"{spec.solid_a}.{spec.face_a}"
+            sin1sq = (n1[sel].real ** 2) * (1.0 - cos1[sel] ** 2)
+            bg = sin1sq > n_gap.real**2
+            beyond_gap[sel] = bg
+            if spec.coherence == "coherent":
+                coh = np.ones(bg.shape, dtype=bool)
+            elif spec.coherence == "incoherent":
+                coh = bg.copy()
+            else:
+                coh = bg | (local_d[sel] < coherence_length[sel])
+            for flag in (True, False):
+                sub = np.nonzero(sel)[0][coh == flag]
+                if len(sub) == 0:
+                    continue
+                c = _gap(cs, g, from_a=from_a, n1=n1[sub], n2=n2[sub],
+                         n_gap=ntab[cs.n_solids + 1 + g, wl_index[sub]], thickness=local_d[sub],
+                         wavelength=wavelength[sub], cos_angle=cos1[sub], coherent=flag)
+                m = np.zeros(n, dtype=bool)
+                m[sub] = True
+                co.fill(m, c)
+
+    # directions ---------------------------------------------------------------
+    r_dir = reflect_direction(k, nhat, cos1)
+    ratio = n1.real / n2.real
+    t_dir, prop = refract_direction(k, nhat, cos1, ratio)
+    t_exists = prop & ((co.Ts > 0) | (co.Tp > 0))
+    tir = ~prop | beyond_gap
+    r_kind = np.where(tir, TIR, REFLECT)
+    t_kind = np.where(beyond_gap, TUNNEL, TRANSMIT)
+
+    # fields and powers ----------------------------------------------------------
+    s, p_in = pol.sp_basis(k, nhat)
+    a_s = np.einsum("ni,nik->nk", s, field)
+    a_p = np.einsum("ni,nik->nk", p_in, field)
+    Ps = np.einsum("nk,nkl,nl->n", a_s, coherency, a_s.conj()).real
+    Pp = np.einsum("nk,nkl,nl->n", a_p, coherency, a_p.conj()).real
+    r_power = co.Rs * Ps + co.Rp * Pp
+    t_power = np.where(t_exists, co.Ts * Ps + co.Tp * Pp, 0.0)
+    r_field = pol.apply_interface(field, k, r_dir, s, co.rs * _unit_amp(co.Rs, co.rs),
+                                  co.rp * _unit_amp(co.Rp, co.rp))
+    t_field = pol.apply_interface(field, k, t_dir, s, co.ts, co.tp)
+    absorbed = power - r_power - t_power
+    return Split(
+        r_dir=r_dir, r_field=r_field, r_power=r_power, r_kind=r_kind,
+        t_exists=t_exists, t_dir=t_dir, t_field=t_field, t_power=t_power, t_kind=t_kind,
+        t_origin=t_origin, t_medium=t_medium, t_face=t_face, absorbed=absorbed,
+    )
+
+
+def _unit_amp(R, r):
+    """Factor making ``|r * f|^2 == R`` (1 for the usual ``R = |r|^2``)."""
+    return fresnel.amplitude_factor(T=R, t=r)

@@ -1,0 +1,246 @@
+"""The result of a trace: ledger, path table, detector records.
+
+:class:`Result` keeps everything a trace produced and answers questions about it;
+:meth:`Result.summary` returns plain data (dicts, lists, floats, ints, strings) ready
+for JSON.
+
+Power on a path: in tree mode every path's power is exact (the sum over source rays
+of the power that followed that path); in Monte Carlo mode it is an estimate.
+Polarisation: Stokes vectors are in each detector's frame (S1 > 0 along the
+detector's ``x_axis``); path Mueller matrices map the source's Stokes vector (in the
+source's input frame, per unit source power) to the detector's, and are meaningful in
+tree mode only (Monte Carlo rescales fields to the carried power).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .paths import DETECT, KIND_NAMES
+
+__all__ = ["Result"]
+
+
+class Result:
+    """Everything one trace produced (see the module docstring)."""
+
+    def __init__(self, *, scene, compiled, options, ledger, tree, recorder, launched):
+        self.scene = scene
+        self.compiled = compiled
+        self.options = options
+        self.ledger = ledger
+        self.tree = tree
+        self._rec = recorder
+        self.launched = launched
+        self._nodes = recorder.node_table()
+        self._hits = None
+
+    # ------------------------------------------------------------------ basics
+    @property
+    def source_names(self) -> list[str]:
+        return list(self.ledger.sources)
+
+    @property
+    def detector_names(self) -> list[str]:
+        """Plane detectors, then far-field detectors."""
+        return list(self.compiled.detector_names) + [d.name for d in self.compiled.far_fields]
+
+    @property
+    def events(self) -> int:
+        """Number of ray-face (or ray-detector) events traced."""
+        return int(self._rec.events)
+
+    @property
+    def source_power_w(self) -> float:
+        return float(self.ledger.launched.sum())
+
+    def detector_power(self, name: str) -> float:
+        """Power reaching detector ``name`` [W] (far field: all escaped power)."""
+        cs = self.compiled
+        if name in cs.detector_names:
+            i = cs.detector_names.index(name)
+            return float(self.ledger.books[:, self.ledger.detector(i)].sum())
+        if name in [d.name for d in cs.far_fields]:
+            return self.ledger.totals()["escaped_w"]
+        raise KeyError(self._unknown_detector(name))
+
+    def _unknown_detector(self, name):
+        from ..errors import TracerError  # noqa: F401
+
+        return f"unknown detector {name!r}; the scene has {', '.join(self.detector_names) or 'none'}"
+
+    # ------------------------------------------------------------------ paths
+    def path_nodes(self, detector: str) -> np.ndarray:
+        """Path-tree nodes that end on plane detector ``detector``, by falling power."""
+        cs = self.compiled
+        if detector not in cs.detector_names:
+            raise KeyError(self._unknown_detector(detector))
+        gid = cs.n_faces + cs.detector_names.index(detector)
+        t = self.tree
+        nodes = np.nonzero((t.face == gid) & (t.kind == DETECT) & (self._nodes["count"] > 0))[0]
+        pw = self._nodes["power"][nodes]
+        sig = [t.signature(n) for n in nodes]
+        order = sorted(range(len(nodes)), key=lambda i: (-pw[i], sig[i]))
+        return nodes[order] if len(nodes) else nodes
+
+    def paths(self, detector: str) -> list[dict]:
+        """Paths reaching ``detector``: signature, power_w, reflections, rays, events."""
+        t = self.tree
+        out = []
+        for n in self.path_nodes(detector):
+            ev = t.events(n)
+            out.append(dict(
+                signature=t.signature(n),
+                power_w=float(self._nodes["power"][n]),
+                reflections=t.reflections(n),
+                rays=int(self._nodes["count"][n]),
+                events=[(t.face_names[f], KIND_NAMES[k]) for f, k in ev],
+                node=int(n),
+            ))
+        return out
+
+    def escaped_paths(self, limit: int = 20) -> list[dict]:
+        """Strongest paths by power escaping after their last event."""
+        esc = self._nodes["escaped"]
+        nodes = np.nonzero(esc > 0)[0]
+        nodes = nodes[np.argsort(-esc[nodes], kind="stable")][:limit]
+        return [dict(signature=self.tree.signature(n), power_w=float(esc[n]),
+                     reflections=self.tree.reflections(n)) for n in nodes]
+
+    def mueller(self, detector: str, signature: str | None = None) -> np.ndarray:
+        """Mueller matrix of a path (or of all paths) onto ``detector``.
+
+        Maps the source's Stokes vector (input frame of the source, unit power) to the
+        Stokes vector on the detector [W per W of source power of the rays that took
+        the path]; ``M[0, 0]`` is the path's throughput for unpolarised light.
+        """
+        nodes = self.path_nodes(detector)
+        if signature is not None:
+            nodes = np.array([n for n in nodes if self.tree.signature(n) == signature])
+            if len(nodes) == 0:
+                raise KeyError(f"no path {signature!r} on detector {detector!r}")
+        m = self._nodes["mueller"][nodes].sum(axis=0).reshape(4, 4)
+        p0 = self._nodes["p0"][nodes].sum()
+        return m / p0 if p0 > 0 else np.zeros((4, 4))
+
+    def path_stokes(self, detector: str, signature: str | None = None) -> np.ndarray:
+        """Summed Stokes vector [W] of a path (or all paths) on ``detector``."""
+        nodes = self.path_nodes(detector)
+        if signature is not None:
+            nodes = np.array([n for n in nodes if self.tree.signature(n) == signature],
+                             dtype=np.int64)
+        return self._nodes["stokes"][nodes].sum(axis=0)
+
+    # ------------------------------------------------------------------ hits
+    def hits(self, detector: str | None = None) -> dict:
+        """Recorded detector hits as arrays (up to ``max_hits`` in all).
+
+        Keys: detector (index), node, position (N,3) [m], local (N,2) [m] in the
+        detector's (x, y), direction, power [W], wavelength [m], stokes (N,4) [W],
+        jones (N,2,2), source, ray_id.
+        """
+        if self._hits is None:
+            parts = self._rec.hits
+            keys = ("detector", "node", "position", "local", "direction", "power",
+                    "wavelength", "stokes", "jones", "source", "ray_id")
+            if parts:
+                self._hits = {k: np.concatenate([p[k] for p in parts]) for k in keys}
+            else:
+                shapes = {"position": (0, 3), "local": (0, 2), "direction": (0, 3),
+                          "stokes": (0, 4), "jones": (0, 2, 2)}
+                self._hits = {k: np.zeros(shapes.get(k, (0,))) for k in keys}
+        h = self._hits
+        if detector is None:
+            return h
+        cs = self.compiled
+        if detector not in cs.detector_names:
+            raise KeyError(self._unknown_detector(detector))
+        sel = h["detector"] == cs.detector_names.index(detector)
+        return {k: v[sel] for k, v in h.items()}
+
+    def stokes(self, detector: str) -> np.ndarray:
+        """Total Stokes vector [W] on ``detector`` in its frame (all paths)."""
+        return self.path_stokes(detector)
+
+    def far_field(self, name: str | None = None) -> dict:
+        """Escaped power binned by direction for a far-field detector.
+
+        Returns a dict with ``power`` (n_azimuth, n_polar) [W], ``azimuth_edges`` and
+        ``polar_edges`` [rad]; polar angle from the detector's ``normal``, azimuth from
+        its ``x_axis``.
+        """
+        ffs = self.compiled.far_fields
+        if not ffs:
+            raise KeyError("the scene has no far-field detector")
+        d = ffs[0] if name is None else next((f for f in ffs if f.name == name), None)
+        if d is None:
+            raise KeyError(self._unknown_detector(name))
+        parts = self._rec.far
+        dirs = np.concatenate([p["direction"] for p in parts]) if parts else np.zeros((0, 3))
+        pw = np.concatenate([p["power"] for p in parts]) if parts else np.zeros(0)
+        nrm = np.asarray(d.normal, float) / np.linalg.norm(d.normal)
+        x = np.asarray(d.x_axis, float)
+        x = x - x.dot(nrm) * nrm
+        x /= np.linalg.norm(x)
+        y = np.cross(nrm, x)
+        polar = np.arccos(np.clip(dirs @ nrm, -1, 1))
+        az = np.mod(np.arctan2(dirs @ y, dirs @ x), 2 * np.pi)
+        na, npol = d.pixels
+        ae = np.linspace(0, 2 * np.pi, na + 1)
+        pe = np.linspace(0, np.pi, npol + 1)
+        H, _, _ = np.histogram2d(az, polar, bins=[ae, pe], weights=pw)
+        return dict(power=H, azimuth_edges=ae, polar_edges=pe)
+
+    def segments(self) -> dict:
+        """Recorded segments (start, end [m], power [W], wavelength [m], node)."""
+        parts = self._rec.segments
+        keys = ("start", "end", "power", "wavelength", "node")
+        if not parts:
+            return {k: np.zeros((0, 3) if k in ("start", "end") else (0,)) for k in keys}
+        return {k: np.concatenate([p[k] for p in parts]) for k in keys}
+
+    # ------------------------------------------------------------------ summary
+    def summary(self, max_paths: int = 50) -> dict:
+        """Plain-data summary (JSON-ready).
+
+        Keys: ``title``, ``mode``, ``seed``, ``events``, ``source_power_w``,
+        ``sources`` (name -> power_w, rays), ``detectors`` (name -> power_w, hits,
+        paths [signature, power_w, reflections, rays]), ``ledger`` (source_w,
+        detected_w, absorbed_w, escaped_w, discarded_w, cut_w, residual_w and the
+        breakdowns; ``per_source``).
+        """
+        led = self.ledger
+        out = dict(
+            title=getattr(self.scene, "title", ""),
+            mode=self.options.mode,
+            seed=int(self.options.seed),
+            power_threshold=float(self.options.power_threshold),
+            max_events=int(self.options.max_events),
+            events=self.events,
+            source_power_w=self.source_power_w,
+            sources={n: dict(power_w=float(led.launched[i]), rays=int(self.launched[i]))
+                     for i, n in enumerate(led.sources)},
+            detectors={},
+        )
+        for name in self.compiled.detector_names:
+            ps = self.paths(name)
+            out["detectors"][name] = dict(
+                kind="plane",
+                power_w=self.detector_power(name),
+                hits=int(sum(p["rays"] for p in ps)),
+                paths=[{k: p[k] for k in ("signature", "power_w", "reflections", "rays")}
+                       for p in ps[:max_paths]],
+                paths_total=len(ps),
+            )
+        for d in self.compiled.far_fields:
+            out["detectors"][d.name] = dict(kind="far_field", power_w=self.detector_power(d.name),
+                                            paths=self.escaped_paths(max_paths))
+        ledger = led.breakdown()
+        ledger["per_source"] = {n: led.totals(i) for i, n in enumerate(led.sources)}
+        out["ledger"] = ledger
+        return out
+
+    def __repr__(self) -> str:
+        t = self.ledger.totals()
+        return (f"<Result {self.options.mode}: {t['source_w']:.4g} W launched, "
+                f"{t['detected_w']:.4g} W detected, {self.events} events>")

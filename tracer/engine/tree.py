@@ -1,0 +1,406 @@
+"""The non-sequential event loop (tree and Monte Carlo modes).
+
+One loop over *events*, never over rays: every step takes a batch of active rays,
+finds the nearest face or detector of each (:mod:`tracer.engine.intersect`), applies
+bulk absorption over the segment, and then, by face type,
+
+* detector: the ray is recorded and ends there (a detector is opaque from its
+  sensitive side; a one-sided detector is transparent from behind);
+* absorber: the ray ends, its power is booked as absorbed on the face;
+* any other face: the ray splits into reflected and transmitted children
+  (:func:`tracer.engine.interact.split`); the face books what the children do not
+  carry. Tree mode keeps both children; Monte Carlo mode keeps one
+  (:mod:`tracer.engine.montecarlo`);
+* nothing: the ray escapes (booked per exit face; binned by direction into far-field
+  detectors) or, inside a solid, is lost (numerical failure, booked under cut).
+
+Children under ``power_threshold`` times their source ray's power are discarded, rays
+that reach ``max_events`` events are cut; both are booked. The active set is kept as
+a stack of batches of at most ``chunk`` rays (depth first), so memory stays bounded
+whatever the depth of the tree, and each source ray's tree does not depend on the
+batch it was traced in.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import polarization as pol
+from .batch import RayBatch, SourceTable
+from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
+from .interact import split
+from .intersect import nearest_hit
+from .ledger import Ledger
+from .montecarlo import BULK, FACE, choose, uniforms
+from .paths import ABSORB, DETECT, PathTree
+
+__all__ = ["Options", "Recorder", "run"]
+
+
+@dataclass
+class Options:
+    """Settings of one trace (see :func:`tracer.engine.trace`)."""
+
+    mode: str = "tree"
+    power_threshold: float = 1e-6
+    max_events: int = 64
+    seed: int = 0
+    batch_size: int = 8192
+    chunk: int = 65536
+    segments: int = 0
+    max_hits: int = 2_000_000
+    progress: bool | None = None
+    rays: object = None
+
+
+class Recorder:
+    """Detector hits, per-path aggregates, far-field rays and segments of a trace."""
+
+    def __init__(self, cs: CompiledScene, tree: PathTree, opts: Options):
+        self.cs = cs
+        self.tree = tree
+        self.opts = opts
+        self.hits: list[dict] = []
+        self.n_hits = 0
+        self.hits_dropped = 0
+        self._node_power = np.zeros(0)
+        self._node_count = np.zeros(0, dtype=np.int64)
+        self._node_stokes = np.zeros((0, 4))
+        self._node_mueller = np.zeros((0, 16))
+        self._node_p0 = np.zeros(0)
+        self._node_esc = np.zeros(0)
+        self.far: list[dict] = []
+        self.segments: list[dict] = []
+        self.n_segments = 0
+        self.events = 0
+
+    def _grow(self, n):
+        m = len(self._node_power)
+        if n <= m:
+            return
+        n = max(n, 2 * m, 1024)
+        pad = n - m
+        self._node_power = np.concatenate([self._node_power, np.zeros(pad)])
+        self._node_p0 = np.concatenate([self._node_p0, np.zeros(pad)])
+        self._node_esc = np.concatenate([self._node_esc, np.zeros(pad)])
+        self._node_count = np.concatenate([self._node_count, np.zeros(pad, np.int64)])
+        self._node_stokes = np.concatenate([self._node_stokes, np.zeros((pad, 4))])
+        self._node_mueller = np.concatenate([self._node_mueller, np.zeros((pad, 16))])
+
+    def detect(self, det, node, position, direction, field, power, wavelength, coherency,
+               p0, source, ray_id, mc):
+        cs = self.cs
+        self._grow(len(self.tree))
+        x = cs.det_x[det]
+        y = cs.det_y[det]
+        xp, yp = pol.transverse_frame(direction, x)
+        flip = np.einsum("ij,ij->i", yp, y) < 0
+        jones = pol.jones_in_frame(field, xp, yp)
+        jones[flip, 1, :] *= -1.0  # express in the detector's own (x, y) handedness
+        coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
+        stokes = pol.coherency_to_stokes(coh)
+        mueller = pol.mueller_from_jones(jones).reshape(len(node), 16)
+        np.add.at(self._node_power, node, power)
+        np.add.at(self._node_count, node, 1)
+        np.add.at(self._node_p0, node, p0)
+        np.add.at(self._node_stokes, node, stokes)
+        np.add.at(self._node_mueller, node, mueller)
+        keep = min(len(node), max(self.opts.max_hits - self.n_hits, 0))
+        if keep < len(node):
+            self.hits_dropped += len(node) - keep
+        if keep:
+            sl = slice(0, keep)
+            rel = position[sl] - cs.det_position[det[sl]]
+            self.hits.append(dict(
+                detector=det[sl], node=node[sl], position=position[sl],
+                local=np.stack([np.einsum("ij,ij->i", rel, x[sl]),
+                                np.einsum("ij,ij->i", rel, y[sl])], axis=1),
+                direction=direction[sl], power=power[sl], wavelength=wavelength[sl],
+                stokes=stokes[sl], jones=jones[sl], source=source[sl], ray_id=ray_id[sl],
+            ))
+            self.n_hits += keep
+
+    def escape(self, node, direction, power, wavelength, stokes_args=None):
+        self._grow(len(self.tree))
+        np.add.at(self._node_esc, node, power)
+        if self.cs.far_fields:
+            self.far.append(dict(direction=direction, power=power, wavelength=wavelength,
+                                 node=node))
+
+    def segment(self, start, end, power, wavelength, node):
+        room = self.opts.segments - self.n_segments
+        if room <= 0:
+            return
+        k = min(room, len(power))
+        self.segments.append(dict(start=start[:k], end=end[:k], power=power[:k],
+                                  wavelength=wavelength[:k], node=node[:k]))
+        self.n_segments += k
+
+    def node_table(self):
+        n = len(self.tree)
+        self._grow(n)
+        return dict(power=self._node_power[:n], count=self._node_count[:n],
+                    p0=self._node_p0[:n], stokes=self._node_stokes[:n],
+                    mueller=self._node_mueller[:n], escaped=self._node_esc[:n])
+
+
+def _progress(opts, total):
+    if opts.progress is False:
+        return None
+    if opts.progress is None and not (hasattr(sys.stderr, "isatty") and sys.stderr.isatty()):
+        return None
+    start = time.perf_counter()
+    state = {"last": start}
+
+    def update(done):
+        now = time.perf_counter()
+        if now - start < 1.0 or (now - state["last"] < 0.5 and done < total):
+            return
+        state["last"] = now
+        frac = done / max(total, 1)
+        bar = "#" * int(30 * frac)
+        sys.stderr.write(f"\rtracing [{bar:<30}] {done}/{total} rays {now - start:6.1f} s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+    return update
+
+
+def _launch(cs: CompiledScene, rays, table_offset: int, ledger: Ledger, wl_lookup):
+    """SourceRays -> (SourceTable, RayBatch)."""
+    n = len(rays)
+    J = np.broadcast_to(np.asarray(rays.coherency, dtype=complex), (n, 2, 2))
+    power = np.asarray(rays.power, dtype=float)
+    rel = pol.ray_power(rays.field, J)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        scale = np.sqrt(np.where(rel > 0, power / rel, 0.0))
+    src = np.asarray(rays.source_index, dtype=np.int64)
+    table = SourceTable(coherency=np.ascontiguousarray(J), power=power, source=src,
+                        ray_id=np.asarray(rays.ray_index, dtype=np.int64))
+    medium = -1
+    if rays.inside_solid is not None:
+        try:
+            medium = cs.solid_names.index(rays.inside_solid)
+        except ValueError:
+            raise EngineError(f"source {rays.source_name!r}: unknown solid "
+                              f"{rays.inside_solid!r}") from None
+    b = RayBatch.empty(n)
+    b.origin = np.asarray(rays.origins, dtype=float)
+    b.direction = np.asarray(rays.directions, dtype=float)
+    b.wavelength = np.asarray(rays.wavelengths, dtype=float)
+    b.wl_index = wl_lookup(b.wavelength)
+    b.field = np.asarray(rays.field, dtype=complex) * scale[:, None, None]
+    b.power = power.copy()
+    b.medium[:] = medium
+    b.node = src.copy()
+    b.root = np.arange(n, dtype=np.int64)
+    ledger.launch(src, power)
+    return table, b
+
+
+class _Tracer:
+    def __init__(self, cs: CompiledScene, opts: Options, ledger, tree, rec, wavelengths,
+                 coherence):
+        self.cs = cs
+        self.opts = opts
+        self.ledger = ledger
+        self.tree = tree
+        self.rec = rec
+        self.ntab = cs.index_table(wavelengths)
+        self.kappa_any = bool((self.ntab.imag > 0).any())
+        self.coh_len = coherence  # (W,) coherence length per wavelength column
+        self.mc = opts.mode == "monte-carlo"
+
+    def step(self, b: RayBatch, table: SourceTable) -> RayBatch:
+        cs, led, tree, rec = self.cs, self.ledger, self.tree, self.rec
+        src = table.source[b.root]
+        t, face = nearest_hit(cs, b.origin, b.direction, b.medium, b.last_face)
+        miss = face < 0
+        if miss.any():
+            out = miss & (b.medium < 0)
+            if out.any():
+                led.book(src[out], led.escaped(b.last_face[out]), b.power[out])
+                rec.escape(b.node[out], b.direction[out], b.power[out], b.wavelength[out])
+            lost = miss & (b.medium >= 0)
+            if lost.any():
+                led.book(src[lost], led.LOST, b.power[lost])
+            keep = ~miss
+            b = b.take(keep)
+            t, face, src = t[keep], face[keep], src[keep]
+        if len(b) == 0:
+            return b
+        rec.events += len(b)
+        n_med = self.ntab[b.medium + 1, b.wl_index]
+        # bulk absorption over the segment (Beer-Lambert, alpha = 4 pi kappa / lambda)
+        if self.kappa_any:
+            kap = n_med.imag
+            lossy = kap > 0
+            if lossy.any():
+                att = np.exp(-2.0 * np.pi * kap[lossy] * t[lossy] / b.wavelength[lossy])
+                if self.mc:
+                    u = uniforms(self.opts.seed, src[lossy], table.ray_id[b.root[lossy]],
+                                 b.events[lossy], BULK)
+                    dead = np.zeros(len(b), dtype=bool)
+                    dead[np.nonzero(lossy)[0][u >= att**2]] = True
+                    if dead.any():
+                        led.book(src[dead], led.bulk_absorbed(b.medium[dead]), b.power[dead])
+                        b = b.take(~dead)
+                        t, face, src, n_med = t[~dead], face[~dead], src[~dead], n_med[~dead]
+                else:
+                    newp = b.power[lossy] * att**2
+                    led.book(src[lossy], led.bulk_absorbed(b.medium[lossy]),
+                             b.power[lossy] - newp)
+                    b.power[lossy] = newp
+                    b.field[lossy] *= att[:, None, None]
+        if len(b) == 0:
+            return b
+        pos = b.origin + t[:, None] * b.direction
+        b.opl = b.opl + n_med.real * t
+        if self.opts.segments:
+            rec.segment(b.origin, pos, b.power, b.wavelength, b.node)
+        code = cs.face_code[face]
+        events = b.events + 1
+        # detectors -------------------------------------------------------------
+        det = code == DETECTOR
+        if det.any():
+            di = face[det] - cs.n_faces
+            node = tree.extend(b.node[det], face[det], np.full(int(det.sum()), DETECT))
+            led.book(src[det], led.detector(di), b.power[det])
+            rec.detect(di, node, pos[det], b.direction[det], b.field[det], b.power[det],
+                       b.wavelength[det], table.coherency[b.root[det]],
+                       table.power[b.root[det]], src[det], table.ray_id[b.root[det]], self.mc)
+        ab = code == ABSORBER
+        if ab.any():
+            tree.extend(b.node[ab], face[ab], np.full(int(ab.sum()), ABSORB))
+            led.book(src[ab], led.face_absorbed(face[ab]), b.power[ab])
+        it = ~(det | ab)
+        if not it.any():
+            return RayBatch.empty(0)
+        ii = np.nonzero(it)[0]
+        fi = face[ii]
+        wl_i = b.wl_index[ii]
+        sp = split(cs, direction=b.direction[ii], position=pos[ii], field=b.field[ii],
+                   power=b.power[ii], medium=b.medium[ii], face=fi,
+                   wavelength=b.wavelength[ii], wl_index=wl_i, ntab=self.ntab,
+                   coherency=table.coherency[b.root[ii]], coherence_length=self.coh_len[wl_i])
+        src_i = src[ii]
+        parent_p = b.power[ii]
+        if self.mc:
+            u = uniforms(self.opts.seed, src_i, table.ray_id[b.root[ii]], b.events[ii], FACE)
+            which = choose(u, sp.r_power, sp.t_power * sp.t_exists, parent_p)
+            gone = which == 2
+            if gone.any():
+                led.book(src_i[gone], led.face_absorbed(fi[gone]), parent_p[gone])
+            rsel = which == 0
+            tsel = which == 1
+            with np.errstate(divide="ignore", invalid="ignore"):
+                gr = np.sqrt(np.where(sp.r_power > 0, parent_p / sp.r_power, 0.0))
+                gt = np.sqrt(np.where(sp.t_power > 0, parent_p / sp.t_power, 0.0))
+            sp.r_field *= gr[:, None, None]
+            sp.t_field *= gt[:, None, None]
+            r_power = parent_p.copy()
+            t_power = parent_p.copy()
+        else:
+            led.book(src_i, led.face_absorbed(fi), sp.absorbed)
+            rsel = np.ones(len(ii), dtype=bool)
+            tsel = sp.t_exists.copy()
+            r_power = sp.r_power
+            t_power = sp.t_power
+        parent_nodes = b.node[ii]
+        p0 = table.power[b.root[ii]]
+        thr = self.opts.power_threshold * p0
+        ev = events[ii]
+        children = []
+        for sel, dirs, fld, pw, kind, org, med, lf in (
+            (rsel, sp.r_dir, sp.r_field, r_power, sp.r_kind, pos[ii], b.medium[ii], fi),
+            (tsel, sp.t_dir, sp.t_field, t_power, sp.t_kind, sp.t_origin, sp.t_medium,
+             sp.t_face),
+        ):
+            if not sel.any():
+                continue
+            nodes = tree.extend(parent_nodes[sel], fi[sel], kind[sel])
+            pw = pw[sel]
+            weak = pw < thr[sel]
+            if not self.mc and weak.any():
+                led.book(src_i[sel][weak], led.DISCARDED, pw[weak])
+            else:
+                weak = np.zeros(len(pw), dtype=bool)
+            cut = ~weak & (ev[sel] >= self.opts.max_events)
+            if cut.any():
+                led.book(src_i[sel][cut], led.CUT, pw[cut])
+            live = ~(weak | cut)
+            if not live.any():
+                continue
+            j = ii[sel][live]
+            c = RayBatch(
+                origin=org[sel][live], direction=dirs[sel][live],
+                wavelength=b.wavelength[j], wl_index=b.wl_index[j], field=fld[sel][live],
+                power=pw[live], medium=med[sel][live], node=nodes[live], events=ev[sel][live],
+                last_face=lf[sel][live], root=b.root[j], opl=b.opl[j],
+            )
+            children.append(c)
+        return RayBatch.concatenate(children)
+
+
+def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
+    """Trace ray batches.
+
+    Parameters
+    ----------
+    cs : CompiledScene
+    sources : iterable of (name, list-of-SourceRays-iterators)
+        See :func:`tracer.engine.api.trace`.
+    opts : Options
+    wavelengths : (W,) float [m]
+        Every wavelength the rays carry (index table columns).
+    coherence : (W,) float [m]
+        Coherence length at each of those wavelengths.
+
+    Returns
+    -------
+    ledger, tree, recorder, launched (per source ray counts)
+    """
+    names = [name for name, _ in sources]
+    ledger = Ledger(names, detectors=cs.detector_names, faces=cs.face_names[: cs.n_faces],
+                    bulks=["ambient"] + cs.solid_names)
+    tree = PathTree(names, cs.face_names)
+    rec = Recorder(cs, tree, opts)
+    wl = np.asarray(wavelengths, dtype=float)
+    order = np.argsort(wl)
+
+    def wl_lookup(w):
+        pos = np.searchsorted(wl[order], w)
+        pos = np.clip(pos, 0, len(wl) - 1)
+        idx = order[pos]
+        if not np.all(wl[idx] == w):
+            raise EngineError("internal: ray wavelength missing from the index table")
+        return idx
+
+    tracer = _Tracer(cs, opts, ledger, tree, rec, wl, np.asarray(coherence, dtype=float))
+    launched = np.zeros(len(names), dtype=np.int64)
+    total = sum(int(n) for _, (n, _) in sources) if sources else 0
+    progress = _progress(opts, total)
+    done = 0
+    for s, (name, (count, batches)) in enumerate(sources):
+        for rays in batches:
+            table, b = _launch(cs, rays, 0, ledger, wl_lookup)
+            launched[s] += len(b)
+            stack = [b]
+            while stack:
+                cur = stack.pop()
+                if len(cur) > opts.chunk:
+                    stack.extend(reversed(cur.split(opts.chunk)))
+                    continue
+                nxt = tracer.step(cur, table)
+                if len(nxt):
+                    stack.append(nxt)
+            done += len(b)
+            if progress:
+                progress(done)
+    return ledger, tree, rec, launched
