@@ -81,7 +81,7 @@ def refract_direction(k, normal, cos1, ratio):
     >>> k = np.array([[np.sin(0.5), 0.0, np.cos(0.5)]])
     >>> kt, ok = refract_direction(k, np.array([[0.0, 0, 1]]), np.cos([0.5]), np.array([1 / 1.5]))
     >>> bool(np.isclose(kt[0, 0] * 1.5, np.sin(0.5))), bool(ok[0])
-    True True
+    (True, True)
     """
     sin2 = ratio**2 * ((1.0 - cos1) * (1.0 + cos1))
     ok = sin2 <= 1.0
