@@ -451,3 +451,18 @@ def test_path_mueller_reproduces_detector_stokes():
     S_in = pol.partial([1.0, 0.3, -0.2, 0.5])
     S_out = pol.detector_stokes(M, pol.stokes_to_coherency(S_in), x, y)
     assert np.allclose(np.einsum("nij,j->ni", pol.path_mueller(M, x, y), S_in), S_out)
+
+
+def test_detector_mueller_matches_detector_stokes():
+    # consistency of the reported Mueller matrices with the reported Stokes vectors, for
+    # rays arriving from both sides of a detector (M S_in = S_out, definition)
+    k = random_units(40)
+    x, y = pol.transverse_frame(k, random_units(40))
+    M = pol.initial_field_matrix(x, y) @ (RNG.normal(size=(40, 2, 2)) + 1j * RNG.normal(size=(40, 2, 2)))
+    dx, dy = np.array([1.0, 0.0, 0.0]), np.array([0.0, 1.0, 0.0])
+    S_in = pol.partial([1.0, -0.4, 0.2, 0.6])
+    S_out = pol.detector_stokes(M, pol.stokes_to_coherency(S_in), dx, dy, directions=k)
+    mm = pol.detector_mueller(M, dx, dy, directions=k)
+    assert np.allclose(np.einsum("nij,j->ni", mm, S_in), S_out)
+    _, flip = pol.detector_jones(M, dx, dy, directions=k)
+    assert flip.any() and (~flip).any()

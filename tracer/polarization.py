@@ -102,6 +102,8 @@ __all__ = [
     "ray_power",
     "output_coherency",
     "detector_stokes",
+    "detector_jones",
+    "detector_mueller",
     "jones_in_frame",
     "mueller_from_jones",
     "path_mueller",
@@ -597,6 +599,35 @@ def jones_in_frame(M, out_x, out_y):
     return np.einsum("...ai,...ik->...ak", B, M)
 
 
+def detector_jones(M, x_axis, y_axis, *, directions):
+    """Jones matrices of rays in the right-handed transverse frame of a detector.
+
+    Parameters
+    ----------
+    M : (N, 3, 2) complex
+    x_axis, y_axis : (3,) or (N, 3) float [1]
+        Detector axes.
+    directions : (N, 3) float [1]
+        Ray directions ``k``.
+
+    Returns
+    -------
+    jones : (N, 2, 2) complex
+        From the source input basis to ``(x', y')`` with ``x' = x_axis`` made
+        transverse to ``k`` and ``y' = k x x'`` (right-handed with ``k``).
+    flip : (N,) bool
+        Where ``y'`` points away from ``y_axis`` (e.g. a detector facing the light,
+        whose ``x_axis x y_axis`` is its normal, opposite to ``k``). Reported Stokes
+        vectors negate S2 there, so that S2 > 0 is towards ``y_axis`` while S3 keeps its
+        physical meaning (see :func:`detector_stokes`).
+    """
+    k = np.atleast_2d(np.asarray(directions, dtype=float))
+    xp, yp = transverse_frame(k, x_axis)
+    jones = jones_in_frame(np.asarray(M, dtype=complex), xp, yp)
+    yref = np.broadcast_to(np.asarray(y_axis, dtype=float), yp.shape)
+    return jones, np.sum(yp * yref, axis=-1) < 0
+
+
 def detector_stokes(M, J, x_axis, y_axis, *, directions=None):
     """Stokes vectors [relative power] of rays in a detector frame.
 
@@ -623,18 +654,28 @@ def detector_stokes(M, J, x_axis, y_axis, *, directions=None):
     (N, 4) float
         Multiply by the rays' launch power [W] for watts.
     """
-    M = np.asarray(M, dtype=complex)
+    J = np.asarray(J, complex)
     if directions is None:
-        jones = jones_in_frame(M, x_axis, y_axis)
-        return coherency_to_stokes(jones @ np.asarray(J, complex) @ np.conj(np.swapaxes(jones, -1, -2)))
-    k = np.atleast_2d(np.asarray(directions, dtype=float))
-    xp, yp = transverse_frame(k, x_axis)
-    jones = jones_in_frame(M, xp, yp)
-    S = coherency_to_stokes(jones @ np.asarray(J, complex) @ np.conj(np.swapaxes(jones, -1, -2)))
-    yref = np.broadcast_to(np.asarray(y_axis, dtype=float), yp.shape)
-    flip = np.sum(yp * yref, axis=-1) < 0
+        jones = jones_in_frame(np.asarray(M, dtype=complex), x_axis, y_axis)
+        return coherency_to_stokes(jones @ J @ np.conj(np.swapaxes(jones, -1, -2)))
+    jones, flip = detector_jones(M, x_axis, y_axis, directions=directions)
+    S = coherency_to_stokes(jones @ J @ np.conj(np.swapaxes(jones, -1, -2)))
     S[flip, 2] *= -1.0
     return S
+
+
+def detector_mueller(M, x_axis, y_axis, *, directions):
+    """Mueller matrices of ray paths as reported at a detector, ``(N, 4, 4)``.
+
+    Maps the source Stokes vector (input basis) to the Stokes vector that
+    :func:`detector_stokes` reports: ``mueller_from_jones`` of :func:`detector_jones`,
+    with the S2 row negated where ``flip``. So ``detector_mueller(...) @ S_in ==
+    detector_stokes(M, stokes_to_coherency(S_in), ...)``.
+    """
+    jones, flip = detector_jones(M, x_axis, y_axis, directions=directions)
+    mm = mueller_from_jones(jones)
+    mm[flip, 2, :] *= -1.0
+    return mm
 
 
 # ---------------------------------------------------------------------------
