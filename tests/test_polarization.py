@@ -188,7 +188,7 @@ def test_diattenuation_and_retardance_of_elements():
 
 
 def test_retardance_against_lu_chipman_mueller_formula():
-    # Lu & Chipman, JOSA A 13(5) 1996, Eq. 19: R = arccos(tr(M_R)/2 - 1) for a pure
+    # Lu & Chipman, JOSA A 13(5) 1996: R = arccos(tr(M_R)/2 - 1) for a pure
     # retarder's Mueller matrix (from memory).
     for _ in range(20):
         a, b, c, d = RNG.normal(size=4)
