@@ -400,7 +400,10 @@ def _generate_range(source, start, stop, *, seed, index, n, lines, wls, weights,
     line_pos = j // n
     g = j % n
     # geometry is the same for every line: compute it once for the distinct g
-    g_unique, inverse = np.unique(g, return_inverse=True)
+    if stop - start >= n:  # every geometric ray occurs
+        g_unique, inverse = np.arange(n, dtype=np.int64), g
+    else:  # a range shorter than n holds each geometric ray at most once
+        g_unique, inverse = g, np.arange(g.size)
     o, dvec, xr, yr = _geometry(source, g_unique, n, seed)
     o, dvec, xr, yr = o[inverse], dvec[inverse], xr[inverse], yr[inverse]
     power = float(source.power) * weights[line_pos] / n
