@@ -1,8 +1,20 @@
 """Scenes: the TOML format, its strict validation, the loader and the writer.
 
->>> import tracer.scene
+>>> from tracer.scene import loads, SceneError
+>>> try:
+...     loads("format = 1\\ntitel = 'x'", path="x.toml")
+... except SceneError as exc:
+...     print(exc.problems[0])
+x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, dimension, format, length_unit, seed, title)
+
+The format is described key by key in ``docs/scene-format.md``.
 """
 
+from .loader import from_dict, load, loads
 from .problems import Problem, SceneError
+from .summary import format_summary, summarize
+from .toml_io import FORMAT_VERSION
+from .writer import dump, to_document, write
 
-__all__ = ["Problem", "SceneError"]
+__all__ = ["load", "loads", "from_dict", "dump", "write", "to_document", "summarize",
+           "format_summary", "SceneError", "Problem", "FORMAT_VERSION"]

@@ -1,0 +1,67 @@
+"""State shared by the section builders while one scene is loaded."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .problems import Problems
+from .quantities import SceneUnits
+
+__all__ = ["Build", "split_face_ref"]
+
+
+@dataclass
+class Build:
+    """Everything a section builder needs: problems, units, and what was built so far.
+
+    Attributes
+    ----------
+    problems : Problems
+    units : SceneUnits
+    dimension : 2 or 3
+    base_dir : Path or None
+        Directory that relative paths (meshes) are taken from.
+    materials : dict[str, Any]
+        Scene-local index models by name (``[materials.NAME]``).
+    coatings : dict[str, FaceTreatment]
+        Face treatments by coating name (built-ins included).
+    solids : dict[str, SolidSpec]
+        Solids built so far.
+    ambient_name : str
+    """
+
+    problems: Problems
+    units: SceneUnits
+    dimension: int = 3
+    base_dir: Path | None = None
+    materials: dict[str, Any] = field(default_factory=dict)
+    material_keys: set[str] = field(default_factory=set)  # names defined but broken
+    coatings: dict[str, Any] = field(default_factory=dict)
+    coating_keys: set[str] = field(default_factory=set)
+    solids: dict[str, Any] = field(default_factory=dict)
+    solid_keys: set[str] = field(default_factory=set)  # names declared (built or not)
+    ambient: Any = None
+    ambient_name: str = "air"
+    spectrum: Any = None
+    gaps: dict[str, Any] = field(default_factory=dict)
+    gap_keys: set[str] = field(default_factory=set)
+    detectors: dict[str, Any] = field(default_factory=dict)
+    detector_keys: set[str] = field(default_factory=set)
+
+
+def split_face_ref(text: str) -> tuple[str, str] | None:
+    """Split ``"solid.face"`` into ``(solid, face)``; ``None`` when malformed.
+
+    >>> split_face_ref("upper.hypotenuse")
+    ('upper', 'hypotenuse')
+    >>> split_face_ref("upper") is None
+    True
+    """
+    if not isinstance(text, str) or text.count(".") != 1:
+        return None
+    solid, face = text.split(".")
+    if not solid or not face:
+        return None
+    return solid, face

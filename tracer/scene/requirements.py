@@ -1,0 +1,89 @@
+"""``[requirements.NAME]``: checks a run evaluates (minimum power, ghosts, leakage)."""
+
+from __future__ import annotations
+
+from .. import units
+from ..errors import TracerError
+from .context import Build
+from .model import RequirementSpec
+from .problems import describe_value, did_you_mean
+from .reader import Table
+
+__all__ = ["read_requirement", "REQUIREMENT_KINDS"]
+
+REQUIREMENT_KINDS = ("min_power", "max_ghost_fraction", "max_leakage")
+
+
+def _name_ref(t: Table, key: str, known: set[str], what: str) -> str | None:
+    value = t.string(key, required=True)
+    if value is None:
+        return None
+    if value not in known:
+        t.error(key, f'unknown {what} "{value}"' + did_you_mean(value, known))
+        return None
+    return value
+
+
+def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) -> RequirementSpec | None:
+    """One ``[requirements.NAME]`` table.
+
+    ``min_power``: ``detector`` and ``limit`` as a power ("1 mW", absolute) or a
+    fraction (0.5 or "50 %", of the total source power). ``max_ghost_fraction``:
+    ``detector`` and ``limit`` (fraction). ``max_leakage``: ``gap`` and ``limit``
+    (fraction of the source power).
+    """
+    kind = t.string("kind", required=True, choices=REQUIREMENT_KINDS)
+    detector = gap = None
+    relative = True
+    limit = None
+    if kind in ("min_power", "max_ghost_fraction"):
+        detector = _name_ref(t, "detector", build.detector_keys, "detector")
+        t.known("gap")
+        if "gap" in t.data:
+            t.error("gap", f'a {kind} requirement names a detector, not a gap')
+    elif kind == "max_leakage":
+        gap = _name_ref(t, "gap", gap_names, "gap")
+        t.known("detector")
+        if "detector" in t.data:
+            t.error("detector", "a max_leakage requirement names a gap, not a detector")
+    else:
+        t.known("detector", "gap")
+    raw = t.raw("limit")
+    if kind is not None:
+        if raw is None:
+            t.error(None, 'missing key "limit": expected '
+                    + ('a power such as "1 mW" or a fraction such as "50 %"' if kind == "min_power"
+                       else 'a fraction such as 0.001 or "0.1 %"'))
+        elif isinstance(raw, bool) or not isinstance(raw, (int, float, str)):
+            t.error("limit", f"expected a number or a quantity string, got {describe_value(raw)}")
+        else:
+            limit, relative = _limit(t, kind, raw)
+    t.finish(context=f"for a {kind} requirement" if kind else None)
+    if kind is None or limit is None or (detector is None and gap is None):
+        return None
+    return RequirementSpec(name=name, kind=kind, limit=limit, detector=detector, gap=gap,
+                           relative=relative)
+
+
+def _limit(t: Table, kind: str, raw):
+    if kind == "min_power" and isinstance(raw, str):
+        try:
+            value = units.power(raw, default=None)
+            return value, False
+        except TracerError:
+            pass
+    try:
+        value = units.fraction(raw)
+    except TracerError as exc:
+        expected = ('a power such as "1 mW" or a fraction such as 0.5 or "50 %"'
+                    if kind == "min_power" else 'a fraction such as 0.001 or "0.1 %"')
+        t.error("limit", f"expected {expected}, got {describe_value(raw)}")
+        del exc
+        return None, True
+    if not 0.0 <= value <= (1.0 if kind == "min_power" else float("inf")):
+        t.error("limit", f"expected a fraction between 0 and 1, got {describe_value(raw)}")
+        return None, True
+    if value < 0:
+        t.error("limit", f"expected a non-negative fraction, got {describe_value(raw)}")
+        return None, True
+    return value, True

@@ -1,0 +1,304 @@
+"""``[solids.NAME]``: material, shape (catalog kind or construction), placement, faces.
+
+Placement is either ``position`` and ``rotation`` (``[rx, ry, rz]`` in degrees,
+extrinsic about the scene x, then y, then z axes, about the solid's local origin, then
+the translation), or a ``[solids.NAME.mate]`` table that puts one face of this solid
+against a face of another (:func:`tracer.geometry.mating.mate`: the moving face's frame
+(u, v, n) becomes (-u, v, -n) of the target face, its centroid goes to the target
+centroid + offset_u u + offset_v v + gap n, then it spins by ``spin`` about n and tilts
+by ``wedge`` about u; in a 2D scene the wedge turns about z instead, so that the solid
+stays in the plane). Mated solids may mate to other
+mated solids; they are placed in dependency order, and a cycle is an error.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import tolerances
+from ..errors import TracerError
+from . import shapes
+from .context import Build, split_face_ref
+from .media import resolve_material
+from .model import FaceTreatment, SolidSpec
+from .problems import did_you_mean
+from .reader import Table
+from .treatments import PerSubstrate
+
+__all__ = ["read_solids", "MateRequest", "COMMON_SOLID_KEYS"]
+
+#: Keys every solid table may have, whatever its kind.
+COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "mate", "faces", "note")
+
+
+@dataclass
+class MateRequest:
+    """A ``[solids.B.mate]`` table, read; resolved once its target solid is placed."""
+
+    solid: str
+    table: Table
+    target_solid: str
+    target_face: str
+    face: str
+    gap: float
+    medium_name: str
+    medium: object
+    offset: np.ndarray
+    spin: float
+    wedge: float
+    coherence: str
+    gap_name: str
+
+
+@dataclass
+class _Pending:
+    name: str
+    table: Table
+    local: object
+    material: object
+    material_name: str
+    kind: str
+    faces: dict
+
+
+def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateRequest, object]]:
+    """Build every solid into ``build.solids``; returns the mated pairs (request, None)."""
+    build.solid_keys = set(tables)
+    pending: dict[str, _Pending] = {}
+    requests: dict[str, MateRequest] = {}
+    placements: dict[str, tuple] = {}
+    for name, t in tables.items():
+        if "." in name:
+            t.error(None, f'a solid name cannot contain "." (faces are written "solid.face"): "{name}"')
+        material_name = t.string("material", required=True)
+        material = resolve_material(build, t.path("material"), material_name) if material_name else None
+        t.string("note")
+        kind = t.string("kind", required=True)
+        local = shapes.read_shape(kind, t, build) if kind else None
+        if kind is None:
+            t.known(*t.data)
+        mate_t = t.table("mate")
+        if mate_t is not None:
+            for bad in ("position", "rotation"):
+                t.known(bad)
+                if bad in t.data:
+                    t.error(bad, f'a mated solid is placed by its [{t.key}.mate] table: remove "{bad}"')
+            req = _read_mate(name, mate_t, build)
+            if req is not None:
+                requests[name] = req
+        else:
+            position = t.vector("position", "length", default=np.zeros(3), dimension=build.dimension)
+            rotation = _read_rotation(t, build)
+            placements[name] = (position, rotation)
+        faces = _read_faces(t, local, build, material, material_name)
+        t.finish(context=f'for a solid of kind "{kind}"' if kind else None)
+        if local is None or material is None or faces is None:
+            continue
+        pending[name] = _Pending(name, t, local, material, material_name, kind, faces)
+
+    # free-standing solids
+    for name, (position, rotation) in placements.items():
+        p = pending.get(name)
+        if p is None or position is None or rotation is None:
+            continue
+        matrix = shapes.rotation_matrix(*rotation)
+        _finish_solid(p, shapes.place(p.local, matrix, position), build)
+
+    # mated solids, in dependency order
+    mated = []
+    for name in _mate_order(requests, build):
+        req = requests[name]
+        p = pending.get(name)
+        target = build.solids.get(req.target_solid)
+        if p is None or target is None:
+            continue
+        placed = _apply_mate(req, p, target, build)
+        if placed is not None:
+            _finish_solid(p, placed, build)
+            mated.append(req)
+    return mated
+
+
+def _finish_solid(p: _Pending, geometry, build: Build) -> None:
+    if build.dimension == 2 and not _check_2d(p, geometry):
+        return
+    faces = {f: p.faces.get(f, FaceTreatment("uncoated")) for f in geometry.face_names}
+    build.solids[p.name] = SolidSpec(name=p.name, material=p.material, material_name=p.material_name,
+                                     geometry=geometry, faces=faces, kind=p.kind)
+
+
+def _check_2d(p: _Pending, geometry) -> bool:
+    """A solid of a 2D scene is an extrusion along z through the plane z = 0."""
+    normals = np.asarray(geometry.face_normals, dtype=float)
+    nz = np.abs(normals[:, 2])
+    bad = (nz > 1e-6) & (nz < 1 - 1e-6)
+    if np.any(bad):
+        names = [f for f, b in zip(geometry.face_names, bad) if b]
+        p.table.error(None, "a 2D scene is a cross-section in the x-y plane: every face must be "
+                            "parallel or perpendicular to z, but "
+                            f"{', '.join(names)} {'is' if len(names) == 1 else 'are'} tilted "
+                            "(rotate only about z, and use prisms extruded along z)")
+        return False
+    lo, hi = np.asarray(geometry.bounds, dtype=float)[:, 2]
+    if not (lo < -tolerances.PLANE_EPS and hi > tolerances.PLANE_EPS):
+        p.table.error(None, f"a solid of a 2D scene must straddle the plane z = 0, but it spans "
+                            f"z = {lo:.6g} m to {hi:.6g} m")
+        return False
+    return True
+
+
+def _read_rotation(t: Table, build: Build):
+    """``rotation = [rx, ry, rz]`` (or a single angle about z in 2D) [rad]."""
+    if build.dimension == 2 and t.has("rotation") and not isinstance(t.data["rotation"], list):
+        rz = t.quantity("rotation", "angle")
+        return None if rz is None else (0.0, 0.0, rz)
+    rot = t.quantities("rotation", "angle", length=3, default=np.zeros(3))
+    if rot is None:
+        return None
+    if build.dimension == 2 and (abs(rot[0]) > 1e-12 or abs(rot[1]) > 1e-12):
+        t.error("rotation", "a 2D scene allows rotations about z only: expected [0, 0, rz] or "
+                            "a single angle")
+        return None
+    return tuple(float(a) for a in rot)
+
+
+def _read_faces(t: Table, local, build: Build, material, material_name) -> dict | None:
+    """``[solids.NAME.faces.FACE] coating = "..."``."""
+    tables = t.tables("faces")
+    names = list(local.face_names) if local is not None else None
+    out, ok = {}, True
+    for face, ft in tables.items():
+        coating = ft.string("coating", required=True)
+        ft.string("note")
+        ft.finish()
+        if names is not None and face not in names:
+            build.problems.error(ft.key, f'solid has no face "{face}"' + did_you_mean(face, names))
+            ok = False
+            continue
+        if coating is None:
+            ok = False
+            continue
+        if coating not in build.coating_keys:
+            ft.error("coating", f'unknown coating "{coating}"' + did_you_mean(coating, build.coating_keys))
+            ok = False
+            continue
+        treatment = build.coatings.get(coating)
+        if treatment is None:  # defined but broken: already reported
+            ok = False
+            continue
+        if isinstance(treatment, PerSubstrate):
+            if material is None:
+                ok = False
+                continue
+            try:
+                treatment = treatment.for_substrate(material, material_name)
+            except TracerError as exc:
+                ft.error("coating", f'coating "{coating}" cannot be designed for {material_name}: {exc}')
+                ok = False
+                continue
+        out[face] = treatment
+    return out if ok and names is not None else None
+
+
+def _read_mate(name: str, t: Table, build: Build) -> MateRequest | None:
+    to = t.string("to", required=True)
+    face = t.string("face", required=True)
+    gap = t.quantity("gap", "length", default=0.0, nonnegative=True)
+    medium_name = t.string("medium", default=build.ambient_name)
+    medium = resolve_material(build, t.path("medium"), medium_name) if medium_name else None
+    offset = t.quantities("offset", "length", length=2, default=np.zeros(2))
+    spin = t.quantity("spin", "angle", default=0.0)
+    wedge = t.quantity("wedge", "angle", default=0.0)
+    coherence = t.string("coherence", default="auto", choices=("auto", "coherent", "incoherent"))
+    gap_name = t.string("gap_name", default=f"{name}.mate")
+    t.finish()
+    target = None
+    if to is not None:
+        target = split_face_ref(to)
+        if target is None:
+            t.error("to", f'expected "solid.face", got "{to}"')
+        elif target[0] == name:
+            t.error("to", "a solid cannot mate to itself")
+            target = None
+        elif target[0] not in build.solid_keys:
+            t.error("to", f'unknown solid "{target[0]}"' + did_you_mean(target[0], build.solid_keys))
+            target = None
+    if build.dimension == 2:
+        if offset is not None and abs(offset[1]) > 0:
+            t.error("offset", "a 2D scene allows an offset along the face in the x-y plane only: "
+                              "expected [u, 0]")
+            offset = None
+        if spin is not None and not (abs(math.remainder(spin, math.pi)) < 1e-9):
+            t.error("spin", "a 2D scene allows spin = 0 deg or 180 deg only")
+            spin = None
+    if wedge is not None and abs(wedge) >= math.pi / 4:
+        t.error("wedge", "expected a small wedge angle (below 45 deg)")
+        wedge = None
+    if any(v is None for v in (target, face, gap, medium, offset, spin, wedge, coherence, gap_name)):
+        return None
+    return MateRequest(name, t, target[0], target[1], face, gap, medium_name, medium, offset,
+                       spin, wedge, coherence, gap_name)
+
+
+def _mate_order(requests: dict[str, MateRequest], build: Build) -> list[str]:
+    """Mated solids ordered so that each comes after the solid it mates to; cycles reported."""
+    order, state = [], {}
+
+    def visit(name, stack):
+        if state.get(name) == "done":
+            return True
+        if state.get(name) == "active":
+            cycle = stack[stack.index(name):] + [name]
+            requests[name].table.error("to", "mating cycle: " + " -> ".join(cycle)
+                                       + " (one solid of the cycle needs a position instead)")
+            return False
+        state[name] = "active"
+        target = requests[name].target_solid
+        ok = True
+        if target in requests:
+            ok = visit(target, stack + [name])
+        state[name] = "done"
+        if ok:
+            order.append(name)
+        return ok
+
+    for name in requests:
+        visit(name, [])
+    return order
+
+
+def _apply_mate(req: MateRequest, p: _Pending, target: SolidSpec, build: Build):
+    t = req.table
+    tnames = list(target.geometry.face_names)
+    if req.target_face not in tnames:
+        t.error("to", f'solid "{req.target_solid}" has no face "{req.target_face}"'
+                      + did_you_mean(req.target_face, tnames))
+        return None
+    names = list(p.local.face_names)
+    if req.face not in names:
+        t.error("face", f'solid "{req.solid}" has no face "{req.face}"' + did_you_mean(req.face, names))
+        return None
+    from ..geometry.mating import mate_transform
+    from ..geometry.transforms import axis_rotation
+    wedge = req.wedge
+    try:
+        R, shift = mate_transform(p.local, req.face, target.geometry, req.target_face, gap=req.gap,
+                                  offset=tuple(req.offset), spin=req.spin,
+                                  wedge=0.0 if build.dimension == 2 else wedge)
+        if build.dimension == 2 and wedge:
+            # in a cross-section the wedge turns about z (the face's v axis) instead of u
+            _, vf, _ = target.geometry.face_frame(req.target_face)
+            anchor = R @ p.local.face_centroid(req.face) + shift
+            W = axis_rotation(vf, wedge)
+            R, shift = W @ R, W @ (shift - anchor) + anchor
+    except TracerError as exc:
+        t.error(None, str(exc))
+        return None
+    try:
+        return shapes.place(p.local, R, shift)
+    except TracerError as exc:
+        t.error(None, str(exc))
+        return None

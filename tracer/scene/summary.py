@@ -1,0 +1,194 @@
+"""A plain-data summary of a scene (what ``tracer check`` prints, and ``--json`` gives).
+
+Numbers are SI with the unit in the key name (``thickness_m``, ``power_W``), rounded to
+12 significant digits; lists and dicts only, so that ``json.dumps`` takes it as is.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from .. import units
+from .model import Scene
+from .toml_io import FORMAT_VERSION
+
+__all__ = ["summarize", "format_summary"]
+
+
+def _f(x) -> float | None:
+    x = float(x)
+    if not math.isfinite(x):
+        return None
+    return float(f"{x:.12g}")
+
+
+def _v(a) -> list:
+    return [_f(x) for x in np.asarray(a, float).ravel()]
+
+
+def _spectrum(sp) -> dict:
+    cl = sp.coherence_length()
+    return {
+        "wavelengths_m": _v(sp.wavelengths),
+        "weights": _v(sp.weights),
+        "bandwidth_m": None if sp.bandwidth is None else _f(sp.bandwidth),
+        "coherence_length_m": [_f(c) for c in np.asarray(cl, float)],
+    }
+
+
+def summarize(scene: Scene) -> dict:
+    """Plain data describing ``scene``: solids with their faces and treatments, gaps
+    (thickness, medium, origin), sources, detectors, requirements and notes."""
+    solids = {}
+    for name, s in scene.solids.items():
+        g = s.geometry
+        faces = {}
+        for i, face in enumerate(g.face_names):
+            tr = s.faces.get(face)
+            faces[face] = {
+                "treatment": tr.kind if tr else "uncoated",
+                "coating": tr.coating_name if tr else None,
+                "reflectance": None if tr is None or tr.reflectance is None else _f(tr.reflectance),
+                "normal": _v(g.face_normals[i]),
+            }
+        solids[name] = {
+            "kind": s.kind,
+            "material": s.material_name,
+            "volume_m3": _f(g.volume),
+            "bounds_m": [_v(b) for b in np.asarray(g.bounds, float)],
+            "faces": faces,
+        }
+    gaps = {
+        name: {
+            "faces": [f"{g.solid_a}.{g.face_a}", f"{g.solid_b}.{g.face_b}"],
+            "medium": g.medium_name,
+            "thickness_m": _f(g.thickness),
+            "wedge_rad": _f(g.wedge),
+            "origin": g.origin,
+            "coherence": g.coherence,
+        }
+        for name, g in scene.gaps.items()
+    }
+    sources = {}
+    for name, s in scene.sources.items():
+        sources[name] = {
+            "kind": s.kind,
+            "position_m": _v(s.position),
+            "direction": _v(s.direction),
+            "x_axis": _v(s.x_axis),
+            "power_W": _f(s.power),
+            "rays": int(s.rays),
+            "sampling": s.sampling,
+            "aperture": s.aperture if s.kind == "collimated" else None,
+            "size_m": _v(s.size) if s.kind == "collimated" else None,
+            "half_angle_rad": _f(s.half_angle) if s.kind != "collimated" else None,
+            "spectrum": _spectrum(s.spectrum),
+            "polarization": {"label": s.polarization.label, "stokes": _v(s.polarization.stokes)},
+            "inside_solid": s.inside_solid,
+        }
+    detectors = {
+        name: {
+            "kind": d.kind,
+            "position_m": _v(d.position),
+            "normal": _v(d.normal),
+            "x_axis": _v(d.x_axis),
+            "size_m": _v(d.size),
+            "pixels": [int(p) for p in d.pixels],
+            "two_sided": bool(d.two_sided),
+            "on_face": d.on_face,
+        }
+        for name, d in scene.detectors.items()
+    }
+    requirements = {
+        name: {"kind": r.kind, "limit": _f(r.limit), "relative": bool(r.relative),
+               "detector": r.detector, "gap": r.gap}
+        for name, r in scene.requirements.items()
+    }
+    st = scene.settings
+    return {
+        "file": scene.path,
+        "format": FORMAT_VERSION,
+        "title": scene.title,
+        "dimension": int(scene.dimension),
+        "ambient": scene.ambient_name,
+        "seed": int(scene.seed),
+        "spectrum": _spectrum(scene.spectrum),
+        "trace": {"mode": st.mode, "power_threshold": _f(st.power_threshold),
+                  "max_events": int(st.max_events),
+                  "sequence": list(st.sequence) if st.sequence else None},
+        "solids": solids,
+        "gaps": gaps,
+        "sources": sources,
+        "detectors": detectors,
+        "requirements": requirements,
+        "notes": list(scene.notes),
+    }
+
+
+def _len(x) -> str:
+    return units.format_length(x) if x is not None else "-"
+
+
+def format_summary(summary: dict) -> str:
+    """The summary as readable text (gap thickness in µm)."""
+    s = summary
+    lines = [f"{s['file'] or '<scene>'}: {s['title']}",
+             f"  {s['dimension']}D, ambient {s['ambient']}, wavelengths "
+             + ", ".join(units.format_wavelength(w) for w in s["spectrum"]["wavelengths_m"])
+             + (f" (bandwidth {units.format_wavelength(s['spectrum']['bandwidth_m'])})"
+                if s["spectrum"]["bandwidth_m"] else ""),
+             f"  trace: {s['trace']['mode']}, power threshold {s['trace']['power_threshold']:g}, "
+             f"at most {s['trace']['max_events']} events"
+             + (f", design path {' -> '.join(s['trace']['sequence'])}" if s["trace"]["sequence"] else "")]
+    lines.append(f"solids ({len(s['solids'])}):")
+    for name, so in s["solids"].items():
+        lines.append(f"  {name}: {so['kind']} of {so['material']}, "
+                     f"volume {so['volume_m3'] * 1e9:.6g} mm³")
+        for face, f in so["faces"].items():
+            what = f["treatment"]
+            if f["coating"] and f["coating"] != what:
+                what += f" ({f['coating']})"
+            if f["reflectance"] is not None:
+                what += f", R = {f['reflectance']:g}"
+            lines.append(f"    {face}: {what}")
+    lines.append(f"gaps ({len(s['gaps'])}):")
+    for name, g in s["gaps"].items():
+        wedge = f", wedge {units.format_angle(g['wedge_rad'])}" if g["wedge_rad"] else ""
+        lines.append(f"  {name}: {g['faces'][0]} | {g['faces'][1]}: {g['thickness_m'] * 1e6:.6g} µm of "
+                     f"{g['medium']}{wedge}, {g['origin']}, coherence {g['coherence']}")
+    lines.append(f"sources ({len(s['sources'])}):")
+    for name, so in s["sources"].items():
+        extra = ""
+        if so["kind"] == "collimated":
+            extra = f", {so['aperture']} {' x '.join(_len(v) for v in so['size_m'] if v)}"
+        else:
+            extra = f", half angle {units.format_angle(so['half_angle_rad'])}"
+        inside = f", inside {so['inside_solid']}" if so["inside_solid"] else ""
+        lines.append(f"  {name}: {so['kind']}{extra}, {units.format_power(so['power_W'])}, "
+                     f"{so['rays']} rays ({so['sampling']}), {so['polarization']['label']}{inside}")
+    lines.append(f"detectors ({len(s['detectors'])}):")
+    for name, d in s["detectors"].items():
+        if d["kind"] == "far_field":
+            lines.append(f"  {name}: far field, {d['pixels'][0]} x {d['pixels'][1]} bins")
+        else:
+            where = f"on {d['on_face']}" if d["on_face"] else "at [" + ", ".join(
+                _len(v) for v in d["position_m"]) + "]"
+            lines.append(f"  {name}: plane {where}, {_len(d['size_m'][0])} x {_len(d['size_m'][1])}, "
+                         f"{d['pixels'][0]} x {d['pixels'][1]} pixels")
+    lines.append(f"requirements ({len(s['requirements'])}):")
+    for name, r in s["requirements"].items():
+        target = r["detector"] or r["gap"]
+        if r["kind"] == "min_power":
+            limit = (f"{r['limit'] * 100:g} % of the source power" if r["relative"]
+                     else units.format_power(r["limit"]))
+            lines.append(f"  {name}: power on {target} >= {limit}")
+        elif r["kind"] == "max_ghost_fraction":
+            lines.append(f"  {name}: ghost fraction on {target} <= {r['limit']:g}")
+        else:
+            lines.append(f"  {name}: leakage through {target} <= {r['limit']:g}")
+    if s["notes"]:
+        lines.append(f"notes ({len(s['notes'])}):")
+        lines.extend(f"  {n}" for n in s["notes"])
+    return "\n".join(lines)

@@ -1,0 +1,209 @@
+"""``[coatings.NAME]`` and face treatments.
+
+Kinds (``kind = ...``):
+
+``stack``
+    ``layers``: an array of tables ``{material = "...", thickness = "99.6 nm"}`` or
+    ``{material = "...", waves = 0.25}`` (optical thickness in waves at
+    ``design_wavelength``), listed from the substrate outwards.
+``quarter-wave``
+    One layer of ``material``, a quarter wave thick at ``design_wavelength`` (at
+    ``design_angle`` of incidence in the ambient, default 0).
+``v-coat``
+    Two-layer antireflection coating of ``high`` (on the substrate) and ``low``
+    materials with zero reflectance at ``design_wavelength`` at normal incidence from the
+    scene's ambient; designed for the solid it is applied to, unless ``substrate``
+    names a material.
+``hl-mirror``
+    Dielectric mirror (HL)^N H of quarter-wave layers, ``high``, ``low``, ``pairs`` = N,
+    at ``design_wavelength`` (optionally ``design_angle`` in the ambient).
+``ideal``
+    Lossless, ``reflectance`` R for both polarisations.
+``mirror``
+    Perfect mirror (optionally with ``reflectance`` R < 1, the rest absorbed), or a
+    metal film: ``metal`` (a material) and ``thickness`` (default 200 nm).
+``absorber``
+    Blackened face: every ray that reaches it is absorbed.
+
+Built-in names usable without a table: ``uncoated``, ``absorber``, ``mirror`` (perfect).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import TracerError
+from .context import Build
+from .media import resolve_material
+from .model import FaceTreatment
+from .reader import Table
+
+__all__ = ["read_coating", "BUILTIN_TREATMENTS", "COATING_KINDS", "PerSubstrate",
+           "DEFAULT_METAL_THICKNESS"]
+
+#: Thickness of a metal mirror film when none is given [m] (opaque for Al, Ag, Au in
+#: the visible; common practice, no source).
+DEFAULT_METAL_THICKNESS = 200e-9
+
+COATING_KINDS = ("stack", "quarter-wave", "v-coat", "hl-mirror", "ideal", "mirror", "absorber")
+
+#: Treatments available by name in every scene.
+BUILTIN_TREATMENTS = {
+    "uncoated": FaceTreatment("uncoated", coating_name="uncoated"),
+    "absorber": FaceTreatment("absorber", coating_name="absorber"),
+    "mirror": FaceTreatment("mirror", coating=None, coating_name="mirror"),
+}
+
+
+def _coatings_module():
+    from .. import coatings
+    return coatings
+
+
+def _layer_list(t: Table, build: Build, design_wl):
+    """The ``layers`` array of a stack: [(material model, thickness or None, waves or None)]."""
+    raw = t.raw("layers")
+    if raw is None:
+        t.error(None, 'missing key "layers": expected an array of tables such as '
+                      '[{material = "MgF2", thickness = "100 nm"}]')
+        return None
+    if not isinstance(raw, list) or not raw:
+        t.error("layers", "expected a non-empty array of tables {material = ..., thickness = ...}")
+        return None
+    out, ok = [], True
+    for i, item in enumerate(raw):
+        lt = Table(item, f"{t.path('layers')}[{i}]", build.problems, build.units)
+        if not isinstance(item, dict):
+            ok = False
+            continue
+        mname = lt.string("material", required=True)
+        model = resolve_material(build, lt.path("material"), mname) if mname else None
+        thickness = lt.quantity("thickness", "length", nonnegative=True)
+        waves = lt.number("waves", minimum=0.0)
+        if lt.has("thickness") == lt.has("waves"):
+            lt.error(None, 'give exactly one of "thickness" (a length) or "waves" '
+                           "(optical thickness in waves at design_wavelength)")
+            ok = False
+        elif waves is not None and design_wl is None:
+            lt.error("waves", 'needs the coating\'s "design_wavelength"')
+            ok = False
+        lt.finish()
+        if model is None or (thickness is None and waves is None):
+            ok = False
+        out.append((mname, model, thickness, waves))
+    return out if ok else None
+
+
+class PerSubstrate:
+    """A coating whose design depends on the solid it is applied to (a V-coat).
+
+    ``make(substrate_model, substrate_name) -> FaceTreatment``; results are cached per
+    substrate name.
+    """
+
+    def __init__(self, name: str, make):
+        self.name, self._make, self._cache = name, make, {}
+
+    def for_substrate(self, model, substrate_name: str) -> FaceTreatment:
+        if substrate_name not in self._cache:
+            self._cache[substrate_name] = self._make(model, substrate_name)
+        return self._cache[substrate_name]
+
+
+def read_coating(name: str, t: Table, build: Build):
+    """One ``[coatings.NAME]`` table as a :class:`FaceTreatment` (or a
+    :class:`PerSubstrate` for a V-coat without an explicit ``substrate``)."""
+    kind = t.string("kind", required=True, choices=COATING_KINDS)
+    t.string("note")
+    co = _coatings_module()
+    out = None
+    try:
+        if kind == "absorber":
+            out = FaceTreatment("absorber", coating_name=name)
+        elif kind == "ideal":
+            r = t.quantity("reflectance", "fraction", required=True, nonnegative=True, maximum=1.0)
+            if r is not None:
+                out = FaceTreatment("ideal", coating=co.ideal(r, name=name), reflectance=r,
+                                    coating_name=name)
+        elif kind == "mirror":
+            metal = t.string("metal")
+            thickness = t.quantity("thickness", "length", positive=True)
+            refl = t.quantity("reflectance", "fraction", nonnegative=True, maximum=1.0)
+            if metal is None:
+                if "thickness" in t.data:
+                    t.error("thickness", 'a perfect mirror has no thickness; add "metal" for a metal film')
+                elif not t.has("metal") and not (t.has("reflectance") and refl is None):
+                    out = FaceTreatment("mirror", coating=None, reflectance=refl, coating_name=name)
+            else:
+                if "reflectance" in t.data:
+                    t.error("reflectance", "a metal mirror's reflectance follows from the metal; "
+                                           'remove "reflectance" or "metal"')
+                model = resolve_material(build, t.path("metal"), metal)
+                if thickness is None and not t.has("thickness"):
+                    thickness = DEFAULT_METAL_THICKNESS
+                if model is not None and thickness is not None:
+                    out = FaceTreatment("mirror", coating=co.stack([(model, thickness)], name=name),
+                                        coating_name=name)
+        elif kind in ("stack", "quarter-wave", "v-coat", "hl-mirror"):
+            wl = t.quantity("design_wavelength", "wavelength", positive=True,
+                            required=kind != "stack")
+            coating = None
+            if kind == "stack":
+                layers = _layer_list(t, build, wl)
+                if layers is not None:
+                    spec = []
+                    for mname, model, d, waves in layers:
+                        if waves is not None:
+                            n = float(np.real(co.evaluate_index(model, wl)))
+                            d = waves * wl / n  # optical thickness n d = waves * lambda0
+                        spec.append((model, d))
+                    coating = co.stack(spec, name=name)
+            elif kind == "quarter-wave":
+                mname = t.string("material", required=True)
+                model = resolve_material(build, t.path("material"), mname) if mname else None
+                angle = t.quantity("design_angle", "angle", default=0.0, nonnegative=True)
+                if model is not None and wl is not None and angle is not None:
+                    coating = co.quarter_wave(material=model, design_wavelength=wl,
+                                              n_ambient=_ambient(build), design_angle=angle, name=name)
+            else:
+                hi_name = t.string("high", required=True)
+                lo_name = t.string("low", required=True)
+                hi = resolve_material(build, t.path("high"), hi_name) if hi_name else None
+                lo = resolve_material(build, t.path("low"), lo_name) if lo_name else None
+                if kind == "hl-mirror":
+                    pairs = t.integer("pairs", required=True, minimum=0, maximum=200)
+                    angle = t.quantity("design_angle", "angle", default=0.0, nonnegative=True)
+                    if None not in (hi, lo, wl, pairs, angle):
+                        coating = co.quarter_wave_mirror(high=hi, low=lo, pairs=pairs,
+                                                         design_wavelength=wl,
+                                                         n_ambient=_ambient(build),
+                                                         design_angle=angle, name=name)
+                else:
+                    sub_name = t.string("substrate")
+                    sub = resolve_material(build, t.path("substrate"), sub_name) if sub_name else None
+                    if None not in (hi, lo, wl) and (sub is not None or sub_name is None):
+                        ambient = _ambient(build)
+                        if sub is not None:
+                            coating = co.v_coat(high=hi, low=lo, substrate=sub, design_wavelength=wl,
+                                                ambient=ambient, name=name)
+                        else:
+                            def make(model, substrate_name, hi=hi, lo=lo, wl=wl, ambient=ambient):
+                                c = co.v_coat(high=hi, low=lo, substrate=model, design_wavelength=wl,
+                                              ambient=ambient, name=f"{name} on {substrate_name}")
+                                return FaceTreatment("stack", coating=c, coating_name=name)
+                            # check once against the design ambient is left to each face
+                            out = PerSubstrate(name, make)
+            if coating is not None:
+                out = FaceTreatment("stack", coating=coating, coating_name=name)
+    except TracerError as exc:
+        t.error(None, str(exc))
+        out = None
+    except (ValueError, TypeError, ArithmeticError, AttributeError) as exc:
+        t.error(None, f"could not build the coating: {exc}")
+        out = None
+    t.finish(context=f'for a coating of kind "{kind}"' if kind else None)
+    return out
+
+
+def _ambient(build: Build):
+    return build.ambient if build.ambient is not None else 1.0
