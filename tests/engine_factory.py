@@ -147,3 +147,56 @@ def plate_scene(n=1.5, thickness=1e-3, rays=1, threshold=1e-12, **kw):
                    plane("back", (0, 0, -0.005), (0, 0, 1))],
         threshold=threshold,
     )
+
+
+def moved(geometry, rotation=np.eye(3), translation=(0, 0, 0)):
+    """The geometry rotated about the origin by ``rotation`` then moved by ``translation``."""
+    R = np.asarray(rotation, float)
+    t = np.asarray(translation, float)
+    if hasattr(geometry, "transformed") and ConvexSolid is not None:
+        return geometry.transformed(R, t)
+    n = geometry.face_normals @ R.T
+    return _solid(n, geometry.face_offsets + n @ t, geometry.face_names)
+
+
+def rot_x(a):
+    c, s = np.cos(a), np.sin(a)
+    return np.array([[1, 0, 0], [0, c, -s], [0, s, c]])
+
+
+def rot_z(a):
+    c, s = np.cos(a), np.sin(a)
+    return np.array([[c, -s, 0], [s, c, 0], [0, 0, 1]])
+
+
+def right_angle(L, height=None):
+    h = L if height is None else height
+    return prism([[0, 0], [L, 0], [0, L]], -h / 2, h / 2, ["leg_a", "hypotenuse", "leg_b"])
+
+
+def prism_pair_scene(*, n=1.5, gap_thickness=1e-6, L=0.01, wavelength=550e-9, stokes=(1, 1, 0, 0),
+                     partner=True, threshold=1e-9, gap_n=1.0):
+    """Two right-angle prisms, hypotenuses facing across an air gap.
+
+    The beam enters ``upper.leg_a`` going +y at normal incidence, meets the hypotenuse at
+    45 deg; the direct transmitted path crosses into ``lower`` and leaves ``lower.leg_a``
+    to the detector ``top``; the reflected one leaves ``upper.leg_b`` towards ``side``.
+    The source x_axis is z (the s direction at the hypotenuse).
+    """
+    s = gap_thickness / np.sqrt(2)
+    up = right_angle(L)
+    lo = prism([[L + s, s], [L + s, L + s], [s, L + s]], -L / 2, L / 2,
+               ["leg_b", "leg_a", "hypotenuse"])
+    solids = [solid("upper", up, n=n)]
+    gaps = []
+    if partner:
+        solids.append(solid("lower", lo, n=n))
+        gaps.append(gap("g", "upper", "hypotenuse", "lower", "hypotenuse", gap_thickness, n=gap_n))
+    return scene(
+        solids=solids, gaps=gaps,
+        sources=[beam(position=(0.3 * L, -0.01, 0), direction=(0, 1, 0), x_axis=(0, 0, 1),
+                      stokes=stokes, wavelengths=(wavelength,))],
+        detectors=[plane("top", (0.3 * L, 3 * L, 0), (0, -1, 0), size=(10 * L, 10 * L)),
+                   plane("side", (-2 * L, 0.3 * L, 0), (1, 0, 0), size=(10 * L, 10 * L))],
+        threshold=threshold,
+    )

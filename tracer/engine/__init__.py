@@ -17,5 +17,6 @@ Modules: :mod:`~tracer.engine.batch` (ray batches), :mod:`~tracer.engine.compile
 from .api import SETTINGS, trace
 from .compile import EngineError, compile_scene
 from .result import Result
+from .sequential import SequenceReport, trace_sequence
 
-__all__ = ["trace", "Result", "SETTINGS", "EngineError", "compile_scene"]
+__all__ = ["trace", "trace_sequence", "SequenceReport", "Result", "SETTINGS", "EngineError", "compile_scene"]

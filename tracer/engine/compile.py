@@ -152,7 +152,7 @@ def compile_scene(scene) -> CompiledScene:
             c = _TREATMENT_CODE.get(t.kind)
             if c is None:
                 raise EngineError(f"solid {name!r} face {fname!r}: unknown treatment {t.kind!r}")
-            if t.kind == "mirror" and t.coating is None:
+            if t.kind == "mirror" and t.coating is None and t.reflectance in (None, 1, 1.0):
                 c = MIRROR
             code.append(c)
         fn.append(normals)

@@ -148,7 +148,7 @@ def _coated(treatment, *, n_inside, n_outside, wavelength, cos_angle, from_insid
     )
 
 
-def _gap(cs, g, *, from_a, n1, n2, n_gap, thickness, wavelength, cos_angle, coherent):
+def _gap(cs, g, *, from_a, n1, n2, n_gap, thickness, wavelength, cos_angle, coherence_length):
     from .. import coatings
 
     gap = cs.gaps[g]
@@ -156,11 +156,23 @@ def _gap(cs, g, *, from_a, n1, n2, n_gap, thickness, wavelength, cos_angle, cohe
     fb = cs.face_index[f"{gap.solid_b}.{gap.face_b}"]
     ta, tb = cs.face_treatment[fa], cs.face_treatment[fb]
     first, second = (ta, tb) if from_a else (tb, ta)
+    if gap.coherence == "incoherent":
+        # incoherent below the critical angle; an evanescent gap is always coherent
+        mode, coherence_length = "auto", np.zeros_like(thickness)
+    else:
+        mode = gap.coherence
     return coatings.gap_response(
-        n_first=n1, treatment_first=first, n_gap=n_gap, thickness=thickness,
-        treatment_second=second, n_second=n2, wavelength=wavelength, cos_angle=cos_angle,
-        coherent=coherent,
+        n_a=n1, coating_a=_coating_of(first), medium_n=n_gap, thickness=thickness,
+        coating_b=_coating_of(second), n_b=n2, wavelength=wavelength, cos_angle=cos_angle,
+        coherence_length=coherence_length, coherence=mode,
     )
+
+
+def _coating_of(treatment):
+    """The layer stack a gap face contributes (None for bare faces)."""
+    if treatment is None or treatment.kind == "uncoated":
+        return None
+    return treatment
 
 
 def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
@@ -235,30 +247,17 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
                                  from_inside=inside[sel]))
     beyond_gap = np.zeros(n, dtype=bool)
     if across.any():
-        for g in np.unique(gap[across]):
-            sel = across & (gap == g)
+        for f in np.unique(face[across]):
+            sel = across & (face == f)
+            g = int(gap[np.nonzero(sel)[0][0]])
             spec = cs.gaps[g]
             n_gap = ntab[cs.n_solids + 1 + g, wl_index[sel]]
-            from_a = cs.face_names[face[np.nonzero(sel)[0][0]]] == f"{spec.solid_a}.{spec.face_a}"
+            from_a = cs.face_names[f] == f"{spec.solid_a}.{spec.face_a}"
             sin1sq = (n1[sel].real ** 2) * (1.0 - cos1[sel] ** 2)
-            bg = sin1sq > n_gap.real**2
-            beyond_gap[sel] = bg
-            if spec.coherence == "coherent":
-                coh = np.ones(bg.shape, dtype=bool)
-            elif spec.coherence == "incoherent":
-                coh = bg.copy()
-            else:
-                coh = bg | (local_d[sel] < coherence_length[sel])
-            for flag in (True, False):
-                sub = np.nonzero(sel)[0][coh == flag]
-                if len(sub) == 0:
-                    continue
-                c = _gap(cs, g, from_a=from_a, n1=n1[sub], n2=n2[sub],
-                         n_gap=ntab[cs.n_solids + 1 + g, wl_index[sub]], thickness=local_d[sub],
-                         wavelength=wavelength[sub], cos_angle=cos1[sub], coherent=flag)
-                m = np.zeros(n, dtype=bool)
-                m[sub] = True
-                co.fill(m, c)
+            beyond_gap[sel] = sin1sq > n_gap.real**2
+            co.fill(sel, _gap(cs, g, from_a=from_a, n1=n1[sel], n2=n2[sel], n_gap=n_gap,
+                              thickness=local_d[sel], wavelength=wavelength[sel],
+                              cos_angle=cos1[sel], coherence_length=coherence_length[sel]))
 
     # directions ---------------------------------------------------------------
     r_dir = reflect_direction(k, nhat, cos1)

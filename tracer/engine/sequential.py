@@ -1,0 +1,323 @@
+"""Sequential design paths: follow a declared face sequence.
+
+:func:`trace_sequence` launches the chief ray of a source (its ``position`` along its
+``direction``) and four neighbours (two small lateral offsets along the source's
+``x_axis`` and ``y_axis``, two small tilts about them), and at each face of the
+sequence keeps the child (reflected or transmitted) whose next hit is the next face of
+the sequence. An entry may force the child with a suffix: ``"upper.exit:T"`` or
+``"upper.hypotenuse:R"``; without one, the last face keeps the transmitted child
+(reflected where no wave is transmitted). A detector name may end the sequence.
+
+Reported (:class:`SequenceReport`): throughput for the source polarisation, deviation
+angle, lateral displacement, optical path length, image orientation (rotation and
+handedness), the path's Jones matrix with its retardance and diattenuation, and per
+face the kind of event, angle of incidence, critical angle, TIR margin (degrees above
+the critical angle) and, where a gap lies behind a TIR face, the tunnelling leakage.
+Rays that leave the sequence are reported with the face where they left.
+
+Image orientation: the output frame is the input frame ``(x, y, k_in)`` carried by the
+smallest rotation that turns ``k_in`` into ``k_out`` (about ``y`` for a reversal). The
+images of the input ``x`` and ``y`` offsets, projected on the plane normal to the
+output chief ray, give a 2x2 map in that frame: its determinant's sign is the
+handedness (+1 upright or rotated, -1 mirrored) and the direction of the image of ``x``
+the image rotation. A prism rotated by ``a`` about the axis of a single-reflection
+(mirroring) system turns this angle by ``2a`` (the image of a reflection about an axis
+at angle ``a``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import fresnel
+from .. import polarization as pol
+from .compile import ABSORBER, DETECTOR, EngineError, compile_scene
+from .interact import split
+from .intersect import nearest_hit
+from .paths import KIND_NAMES, REFLECT, TIR, TUNNEL
+
+__all__ = ["trace_sequence", "SequenceReport"]
+
+
+@dataclass
+class SequenceReport:
+    """What the design path does (see the module docstring).
+
+    Angles in radians in the attributes; :meth:`summary` gives degrees as well.
+    """
+
+    sequence: list
+    complete: bool
+    left_at: dict | None
+    throughput: float
+    deviation: float
+    lateral_displacement: float
+    line_distance: float
+    optical_path_length: float
+    handedness: int | None
+    image_rotation: float | None
+    image_map: np.ndarray | None
+    jones: np.ndarray
+    retardance: float
+    diattenuation: float
+    output_stokes: np.ndarray
+    steps: list = field(default_factory=list)
+    input_direction: np.ndarray | None = None
+    output_direction: np.ndarray | None = None
+    output_point: np.ndarray | None = None
+    neighbours_complete: bool = True
+
+    def summary(self) -> dict:
+        """Plain data (degrees for angles)."""
+        deg = np.degrees
+
+        def f(x):
+            return None if x is None else float(x)
+
+        return dict(
+            sequence=list(self.sequence),
+            complete=bool(self.complete),
+            left_at=self.left_at,
+            throughput=float(self.throughput),
+            deviation_deg=float(deg(self.deviation)),
+            lateral_displacement_m=float(self.lateral_displacement),
+            line_distance_m=float(self.line_distance),
+            optical_path_length_m=float(self.optical_path_length),
+            handedness=self.handedness,
+            image_rotation_deg=None if self.image_rotation is None else float(deg(self.image_rotation)),
+            retardance_deg=float(deg(self.retardance)),
+            diattenuation=float(self.diattenuation),
+            output_stokes=[float(x) for x in self.output_stokes],
+            steps=[{k: (f(v) if isinstance(v, (float, np.floating)) else v) for k, v in s.items()}
+                   for s in self.steps],
+            neighbours_complete=bool(self.neighbours_complete),
+        )
+
+
+def _parse(cs, sequence):
+    out = []
+    for entry in sequence:
+        name, force = entry, None
+        if ":" in entry:
+            name, force = entry.rsplit(":", 1)
+            force = force.strip().upper()
+            if force not in ("T", "R"):
+                raise EngineError(f"sequence entry {entry!r}: suffix must be ':T' or ':R'")
+        out.append((cs.face_id(name.strip()), force, entry))
+    return out
+
+
+def _rodrigues(a, b, fallback_axis):
+    """Smallest rotation matrix taking unit ``a`` to unit ``b``."""
+    v = np.cross(a, b)
+    c = float(np.dot(a, b))
+    s = np.linalg.norm(v)
+    if s < 1e-12:
+        if c > 0:
+            return np.eye(3)
+        ax = fallback_axis / np.linalg.norm(fallback_axis)
+        return 2 * np.outer(ax, ax) - np.eye(3)  # rotation by pi about ax
+    k = v / s
+    K = np.array([[0, -k[2], k[1]], [k[2], 0, -k[0]], [-k[1], k[0], 0]])
+    return np.eye(3) + s * K + (1 - c) * K @ K
+
+
+def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset=None,
+                   tilt=1e-4) -> SequenceReport:
+    """Follow the design path ``sequence`` from a source's chief ray.
+
+    Parameters
+    ----------
+    scene : tracer.scene.model.Scene
+    sequence : list of str, optional
+        ``"solid.face"`` entries (optional ``:T``/``:R`` suffix), optionally ending with
+        a detector name; default ``scene.settings.sequence``.
+    source : str, optional
+        Source name (default: the first source).
+    wavelength : float [m], optional
+        Default: the source's first spectral line.
+    offset : float [m], optional
+        Lateral offset of the neighbour rays (default 1e-4 of the scene size, at
+        least 1 nm).
+    tilt : float [rad]
+        Tilt of the angular neighbours.
+
+    Returns
+    -------
+    SequenceReport
+    """
+    from .. import sources as srcmod
+
+    if sequence is None:
+        sequence = scene.settings.sequence
+    if not sequence:
+        raise EngineError("no sequence: give sequence=[...] or set it in the scene settings")
+    cs = compile_scene(scene)
+    steps_spec = _parse(cs, list(sequence))
+    if not scene.sources:
+        raise EngineError("the scene has no source to launch the design path from")
+    name = source or next(iter(scene.sources))
+    if name not in scene.sources:
+        raise EngineError(f"unknown source {name!r}; sources: {', '.join(scene.sources)}")
+    spec = scene.sources[name]
+    wl = float(wavelength if wavelength is not None else np.asarray(spec.spectrum.wavelengths)[0])
+    ntab = cs.index_table(np.array([wl]))
+    k0 = np.asarray(spec.direction, float)
+    k0 = k0 / np.linalg.norm(k0)
+    (x0,), (y0,) = pol.transverse_frame(k0[None], np.asarray(spec.x_axis, float))
+    J = srcmod.source_coherency(spec)
+    if offset is None:
+        if cs.n_solids:
+            size = float(np.max(cs.box_hi - cs.box_lo))
+        else:
+            size = 1.0
+        offset = max(1e-4 * size, 1e-9)
+    p0 = np.asarray(spec.position, float)
+    origins = np.array([p0, p0 + offset * x0, p0 + offset * y0, p0, p0])
+    dirs = np.array([k0, k0, k0, k0 + tilt * x0, k0 + tilt * y0])
+    dirs /= np.linalg.norm(dirs, axis=1, keepdims=True)
+    xr, yr = pol.transverse_frame(dirs, x0)
+    M = pol.initial_field_matrix(xr, yr)
+    n = len(origins)
+    medium = np.full(n, -1, dtype=np.int64)
+    if spec.inside_solid is not None:
+        medium[:] = cs.solid_names.index(spec.inside_solid)
+    last = np.full(n, -1, dtype=np.int64)
+    alive = np.ones(n, dtype=bool)
+    opl = np.zeros(n)
+    power = np.ones(n)
+    pos = origins.copy()
+    Jn = np.broadcast_to(J, (n, 2, 2))
+    steps = []
+    left = None
+    wl_i = np.zeros(n, dtype=np.int64)
+    wla = np.full(n, wl)
+    coh = np.full(n, np.inf)
+
+    t, face = nearest_hit(cs, pos, dirs, medium, last)
+    for i, (fid, force, entry) in enumerate(steps_spec):
+        ok = alive & (face == fid)
+        if not ok[0]:
+            got = int(face[0])
+            left = dict(step=i, expected=entry,
+                        hit=cs.face_names[got] if got >= 0 else None,
+                        after=steps[-1]["face"] if steps else None)
+            alive[:] = False
+            break
+        alive &= ok
+        nmed = ntab[medium + 1, 0]
+        opl = opl + nmed.real * np.where(np.isfinite(t), t, 0.0)
+        hit = pos + t[:, None] * dirs
+        code = cs.face_code[fid]
+        if code in (DETECTOR, ABSORBER):
+            pos = hit
+            steps.append(dict(face=entry, kind="detect" if code == DETECTOR else "absorb",
+                              power=float(power[0])))
+            if i != len(steps_spec) - 1:
+                left = dict(step=i, expected=steps_spec[i + 1][2], hit=entry, after=entry)
+                alive[:] = False
+            break
+        fa = np.full(n, fid)
+        sp = split(cs, direction=dirs, position=hit, field=M, power=power, medium=medium,
+                   face=fa, wavelength=wla, wl_index=wl_i, ntab=ntab, coherency=Jn,
+                   coherence_length=coh)
+        # which child continues the sequence
+        last_step = i == len(steps_spec) - 1
+        cand = {}
+        for label, d, o, med, lf in (("R", sp.r_dir, hit, medium, fa),
+                                     ("T", sp.t_dir, sp.t_origin, sp.t_medium, sp.t_face)):
+            tt, ff = nearest_hit(cs, o, d, med, lf)
+            cand[label] = (tt, ff)
+        if force is not None:
+            choice = force
+        elif last_step:
+            choice = "T" if sp.t_exists[0] else "R"
+        else:
+            nxt = steps_spec[i + 1][0]
+            if sp.t_exists[0] and cand["T"][1][0] == nxt:
+                choice = "T"
+            elif cand["R"][1][0] == nxt:
+                choice = "R"
+            else:
+                choice = "T" if sp.t_exists[0] else "R"
+        if choice == "T" and not sp.t_exists[0]:
+            left = dict(step=i, expected=entry + ":T", hit=None, after=entry,
+                        reason="no transmitted wave")
+            alive[:] = False
+            break
+        # event details for the chief ray
+        n1 = ntab[medium[0] + 1, 0]
+        nf = cs.face_normal[fid]
+        inside = medium[0] == cs.face_solid[fid]
+        nh = nf if inside else -nf
+        cos1 = float(np.clip(np.dot(dirs[0], nh), 0, 1))
+        aoi = float(np.arccos(cos1))
+        g = cs.face_gap[fid]
+        across = bool(inside and g >= 0 and sp.t_medium[0] >= 0)
+        if across or (inside and g >= 0 and not sp.t_exists[0]):
+            n_beyond = ntab[cs.n_solids + 1 + g, 0]  # the gap medium decides TIR
+        elif inside:
+            n_beyond = ntab[0, 0]
+        else:
+            n_beyond = ntab[cs.face_solid[fid] + 1, 0]
+        crit = fresnel.critical_angle(n1=n1, n2=n_beyond)
+        crit = None if np.isnan(crit) else float(crit)
+        kind = int(sp.r_kind[0]) if choice == "R" else int(sp.t_kind[0])
+        step = dict(face=entry, kind=KIND_NAMES[kind], child=choice,
+                    angle_of_incidence_deg=float(np.degrees(aoi)),
+                    critical_angle_deg=None if crit is None else float(np.degrees(crit)),
+                    tir_margin_deg=(float(np.degrees(aoi - crit))
+                                    if (crit is not None and kind == TIR) else None),
+                    leakage=(float(sp.t_power[0] / power[0]) if (kind == TIR and sp.t_exists[0])
+                             else (0.0 if kind == TIR else None)),
+                    power_fraction=float((sp.r_power[0] if choice == "R" else sp.t_power[0]) / power[0]))
+        steps.append(step)
+        if choice == "R":
+            dirs, M, power, pos, last = sp.r_dir, sp.r_field, sp.r_power, hit, fa
+            t, face = cand["R"]
+        else:
+            dirs, M, power, pos, medium, last = (sp.t_dir, sp.t_field, sp.t_power, sp.t_origin,
+                                                 sp.t_medium, sp.t_face)
+            t, face = cand["T"]
+    complete = left is None
+    kin = k0
+    kout = dirs[0]
+    dev = float(np.arccos(np.clip(np.dot(kin, kout), -1, 1)))
+    d = pos[0] - p0
+    lateral = float(np.linalg.norm(d - np.dot(d, kout) * kout))
+    cr = np.cross(kin, kout)
+    if np.linalg.norm(cr) > 1e-9:
+        line_dist = float(abs(np.dot(d, cr)) / np.linalg.norm(cr))
+    else:
+        line_dist = float(np.linalg.norm(d - np.dot(d, kin) * kin))
+    R = _rodrigues(kin, kout, y0)
+    ox, oy = R @ x0, R @ y0
+    jones = pol.jones_in_frame(M[0], ox, oy)
+    coh_out = jones @ J @ jones.conj().T
+    stokes = pol.coherency_to_stokes(coh_out)
+    handed = rot = imap = None
+    nb_ok = bool(complete and alive.all())
+    if nb_ok:
+        def image(j):
+            # propagate neighbour j to the plane through the chief exit point normal to kout
+            dj = dirs[j]
+            s = np.dot(pos[0] - pos[j], kout) / np.dot(dj, kout)
+            q = pos[j] + s * dj - pos[0]
+            return np.array([np.dot(q, ox), np.dot(q, oy)]) / offset
+
+        imap = np.column_stack([image(1), image(2)])
+        det = np.linalg.det(imap)
+        handed = int(np.sign(det)) if abs(det) > 1e-9 else 0
+        rot = float(np.arctan2(imap[1, 0], imap[0, 0]))
+    return SequenceReport(
+        sequence=[e for _, _, e in steps_spec], complete=complete, left_at=left,
+        throughput=float(power[0]) if complete else 0.0, deviation=dev,
+        lateral_displacement=lateral, line_distance=line_dist,
+        optical_path_length=float(opl[0]), handedness=handed, image_rotation=rot,
+        image_map=imap, jones=jones, retardance=float(pol.retardance(jones)),
+        diattenuation=float(pol.diattenuation(jones)), output_stokes=stokes, steps=steps,
+        input_direction=kin, output_direction=kout, output_point=pos[0],
+        neighbours_complete=nb_ok,
+    )
