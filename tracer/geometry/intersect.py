@@ -146,17 +146,19 @@ def _halfspace_block(normals, offsets, o, d, ins, t_min):
     num = offsets - o @ normals.T  # distance-like: > 0 inside the half-space
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
-    entering = den < 0
-    leaving = (den > 0) & (t > t_min)
-    t_in = np.where(entering, t, -np.inf)
-    t_lv = np.where(leaving, t, np.inf)
+    t_in = np.where(den < 0, t, -np.inf)  # entering planes
+    t_lv = np.where(den > 0, t, np.inf)  # leaving planes
     f_in = np.argmax(t_in, axis=1)
-    f_lv = np.argmin(t_lv, axis=1)
     rows = np.arange(len(o))
     te = t_in[rows, f_in]
-    tx = t_lv[rows, f_lv]
     blocked = ((den == 0) & (num < 0)).any(axis=1)
-    entry = ~ins & ~blocked & (te > t_min) & (te <= tx)
+    # entry: the last entering plane, before the first leaving one (any t)
+    entry = ~ins & ~blocked & (te > t_min) & (te <= t_lv.min(axis=1))
+    # exit: the first leaving plane ahead; a plane already behind the ray (round-off
+    # after a hit near an edge) is skipped
+    t_lv[t_lv <= t_min] = np.inf
+    f_lv = np.argmin(t_lv, axis=1)
+    tx = t_lv[rows, f_lv]
     exit_ = ins & np.isfinite(tx)
     t_res = np.where(entry, te, np.where(exit_, tx, np.inf))
     f_res = np.where(entry, f_in, np.where(exit_, f_lv, -1))
@@ -216,17 +218,10 @@ def _triangle_block(v0, e1, e2, normal, tface, o, d, ins, t_min):
         qvec = np.cross(tvec, e1[None, :, :])
         v = np.einsum("ck,ctk->ct", d, qvec) * inv
         t = np.einsum("ctk,tk->ct", qvec, e2) * inv
-    facing = d @ normal.T  # < 0: entering, > 0: leaving
-    sense = np.where(ins[:, None], facing > 0, facing < 0)
-    eps = TRIANGLE_EDGE_TOL
-    ok = (
-        sense
-        & (det != 0)
-        & (u >= -eps)
-        & (v >= -eps)
-        & (u + v <= 1 + eps)
-        & (t > t_min)
-    )
+        facing = d @ normal.T  # < 0: entering, > 0: leaving
+        sense = np.where(ins[:, None], facing > 0, facing < 0)
+        eps = TRIANGLE_EDGE_TOL
+        ok = sense & (det != 0) & (u >= -eps) & (v >= -eps) & (u + v <= 1 + eps) & (t > t_min)
     t = np.where(ok, t, np.inf)
     k = np.argmin(t, axis=1)
     tb = t[np.arange(len(o)), k]
