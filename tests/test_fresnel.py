@@ -135,3 +135,12 @@ def test_bad_input_raises_tracer_error():
         fresnel.coefficients(n1=1.0, n2=1.5, angle=2.0)
     with pytest.raises(TracerError, match="cos_angle"):
         fresnel.coefficients(n1=1.0, n2=1.5, cos_angle=-0.5)
+
+
+def test_real_fast_path_same_branch_as_complex_root():
+    # Lossless media take a real-arithmetic square root; it must equal the complex branch.
+    z = np.linspace(-3, 3, 1001) + 0j
+    fast = fresnel._forward_root(z)
+    slow = np.array([fresnel._forward_root(np.complex128(v)) for v in z])
+    np.testing.assert_array_equal(fast, slow)
+    assert np.all(fast.imag >= 0) and np.all(fast.real >= 0)

@@ -87,6 +87,7 @@ True
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -107,78 +108,122 @@ def _abs2(z: np.ndarray) -> np.ndarray:
     return z.real * z.real + z.imag * z.imag
 
 
+#: Below this |2iδ| the factor expm1(2iδ)/(2iδ) comes from its Taylor series, above it
+#: from exp(2iδ) - 1 (relative round-off <= eps/0.25 there).
+_SERIES_RADIUS = 0.25
+#: 1/(k+1)! for k = 15 .. 0: Horner coefficients of expm1(x)/x = sum x^k/(k+1)!, truncation
+#: error below 0.25^16/17! ~ 1e-24 inside the series radius.
+_PHI_COEFFS = tuple(1.0 / math.factorial(k + 1) for k in range(15, -1, -1))
+
+
+def _phi_series(x):
+    """``expm1(x) / x`` by its Taylor series (|x| <= _SERIES_RADIUS)."""
+    acc = np.full_like(x, _PHI_COEFFS[0])
+    for c in _PHI_COEFFS[1:]:
+        acc *= x
+        acc += c
+    return acc
+
+
 def _layer_matrix_terms(q, d, k0):
-    """Bounded terms of ``exp(iδ) M`` for a layer: ``h``, ``-i F``, and ``x = 2iδ``.
+    """Bounded terms of ``exp(iδ) M`` for a layer: ``h``, ``-i F`` and ``exp(iδ)``.
 
     ``h = (1 + e^{2iδ}) / 2`` and ``F = exp(iδ) sin δ / q = k0 d expm1(2iδ) / (2iδ)``
-    (limit ``k0 d`` at ``δ = 0``).
+    (limit ``k0 d`` at ``δ = 0``: zero thickness or exactly critical, ``q = 0``).
+    ``|exp(iδ)| <= 1`` on the forward branch.
     """
     kd = k0 * d
-    x = (2j * kd) * q  # 2 i δ
-    em1 = np.expm1(x)
-    h = em1 * 0.5
-    h += 1.0  # (1 + e^{2iδ}) / 2 = 1 + expm1/2
+    x = q * (2j * kd)  # 2 i δ, Re(x) <= 0 on the forward branch
+    half = x * 0.5
+    p = np.exp(half, out=half)  # exp(iδ)
+    em1 = p * p
+    em1 -= 1.0  # exp(2iδ) - 1
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         F = em1 / x
-    # |2iδ| < 1e-8 (zero thickness, exactly critical, denormal round-off): Taylor series
-    # expm1(x)/x = 1 + x/2 + x^2/6 + O(x^3), exact to round-off there.
-    small = _abs2(x) < 1e-16
-    if np.any(small):
-        F = np.where(small, 1.0 + x * (0.5 + x / 6.0), F)
-    F *= kd
-    F *= -1j  # now -i F
-    return h, F, x
+    small = _abs2(x) < _SERIES_RADIUS**2
+    if small.any():
+        xs = x[small]
+        phi = _phi_series(xs)
+        F[small] = phi
+        em1[small] = xs * phi
+    h = em1
+    h *= 0.5
+    h += 1.0  # (1 + e^{2iδ}) / 2
+    F *= -1j * kd  # -i k0 d expm1(x)/x
+    return h, F, p
 
 
 def _coherent(n_in, q_in, n_out, q_out, layers, k0):
     """Coherent amplitudes ``rs, ts, rp, tp`` of a stack (module docstring, coherent).
 
     ``layers`` is a list of ``(n, n2, q, d)`` with ``n2 = n^2`` of each layer, in the order
-    light meets them.
+    light meets them. ``q_in``, ``q_out`` and every layer's ``q`` are arrays of the full
+    ray shape (at least 1-d), so the in-place updates below are safe; for 10^6 rays the
+    cost is memory traffic, not arithmetic.
     """
-    # Start at the exit medium: [B, C] = [1, g_out].
-    Bs = None
+    # Start at the exit medium: [B, C] = [1, g_out], g = q (s) and q / n^2 (p).
+    Bs = Bp = None
     Cs = q_out
-    n_out2 = n_out * n_out
-    Cp = q_out / n_out2
-    Bp = None
-    X = None  # sum of 2iδ
+    Cp = q_out * (1.0 / (n_out * n_out))
+    P = None  # product of exp(iδ) over the layers
     for _, n2, q, d in reversed(layers):
-        h, mF, x = _layer_matrix_terms(q, d, k0)
-        X = x if X is None else X + x
-        q2 = q * q
-        # s: B' = h B - iF C ; C' = -i q^2 F B + h C
-        if Bs is None:
-            Bs_new = h + mF * Cs
-            Cs_new = mF * q2 + h * Cs
-            Bp_new = h + (mF * n2) * Cp
-            Cp_new = mF * (q2 / n2) + h * Cp
+        h, mF, p = _layer_matrix_terms(q, d, k0)
+        if P is None:
+            P = p  # owned: p is not used after this loop
         else:
-            Bs_new = h * Bs + mF * Cs
-            Cs_new = (mF * q2) * Bs + h * Cs
-            Bp_new = h * Bp + (mF * n2) * Cp
-            Cp_new = (mF * (q2 / n2)) * Bp + h * Cp
-        Bs, Cs, Bp, Cp = Bs_new, Cs_new, Bp_new, Cp_new
-    g_in_p = q_in / (n_in * n_in)
+            P *= p
+        mFq2 = q * q
+        mFq2 *= mF  # -i F q^2
+        # s: B' = h B - iF C ; C' = -i q^2 F B + h C   (p: F -> F n^2, F q^2 -> F q^2 / n^2)
+        if Bs is None:  # B = 1
+            Bs = mF * Cs
+            Bs += h
+            Cs = h * Cs
+            Cs += mFq2
+            Bp = Cp * n2
+            Bp *= mF
+            Bp += h
+            Cp = h * Cp
+            Cp += mFq2 / n2
+        else:
+            t = mF * Cs
+            Bs_new = h * Bs
+            Bs_new += t
+            Cs *= h
+            Bs *= mFq2
+            Cs += Bs
+            Bs = Bs_new
+            t = Cp * n2
+            t *= mF
+            Bp_new = h * Bp
+            Bp_new += t
+            Cp *= h
+            Bp *= mFq2
+            Bp /= n2
+            Cp += Bp
+            Bp = Bp_new
+    g_in_p = q_in * (1.0 / (n_in * n_in))
     if Bs is None:  # bare interface
         num_s, den_s = q_in - Cs, q_in + Cs
         num_p, den_p = g_in_p - Cp, g_in_p + Cp
-        P = None
     else:
         a = q_in * Bs
-        num_s, den_s = a - Cs, a + Cs
+        num_s, den_s = a - Cs, a
+        den_s += Cs
         a = g_in_p * Bp
-        num_p, den_p = a - Cp, a + Cp
-        P = np.exp(X * 0.5)  # exp(i Σ δ), modulus <= 1
+        num_p, den_p = a - Cp, a
+        den_p += Cp
     degenerate = (den_s == 0) | (den_p == 0)
     any_deg = bool(np.any(degenerate))
     if any_deg:  # grazing incidence on an invisible stack (0/0): r = 0, t = 1
         den_s = np.where(degenerate, 1.0, den_s)
         den_p = np.where(degenerate, 1.0, den_p)
-    rs = num_s / den_s
-    rp = num_p / den_p
-    ts = (2 * q_in) / den_s
-    tp = (2 * g_in_p * (n_in / n_out)) / den_p
+    inv_s = np.reciprocal(den_s, out=den_s)
+    inv_p = np.reciprocal(den_p, out=den_p)
+    rs = num_s * inv_s
+    rp = num_p * inv_p
+    ts = (2 * q_in) * inv_s
+    tp = (2 * g_in_p * (n_in / n_out)) * inv_p
     if P is not None:
         ts *= P
         tp *= P
@@ -368,7 +413,8 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
         ) from None
 
     k0 = (2 * np.pi) / wl
-    q_in = n_in * c_in
+    work = shape if shape else (1,)  # internal arrays: full ray shape, at least 1-d
+    q_in = n_in * np.broadcast_to(c_in, work)
     # (n cos θ)^2 = (n^2 - n_in^2) + q_in^2: invariant n_in sin θ_in, exact for matched media
     q_in2 = q_in * q_in
     n_in2 = n_in * n_in
@@ -383,19 +429,22 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
     elif all(isinstance(f, bool) for f in flags):
         res = _incoherent(n_in, q_in, n_out, q_out, ldata, k0, flags)
     else:
-        res = _mixed(n_in, q_in, n_out, q_out, ldata, k0, flags, shape)
+        res = _mixed(n_in, q_in, n_out, q_out, ldata, k0, flags, work)
     rs, ts, rp, tp, Rs, Ts, Rp, Tp = (_full(a, shape) for a in res)
     return Coefficients(
         rs=rs, rp=rp, ts=ts, tp=tp, Rs=Rs, Rp=Rp, Ts=Ts, Tp=Tp,
         As=1.0 - Rs - Ts, Ap=1.0 - Rp - Tp,
         ncos_in=_full(q_in, shape), ncos_out=_full(q_out, shape),
-        n_in=_full(n_in, shape), n_out=_full(n_out, shape),
+        n_in=np.broadcast_to(n_in, shape), n_out=np.broadcast_to(n_out, shape),
     )
 
 
 def _full(a, shape):
+    """``a`` with the ray shape: internal 1-element arrays back to 0-d, others broadcast."""
     a = np.asarray(a)
     if a.shape != shape:
+        if a.size == 1 and shape == ():
+            return a.reshape(())
         a = np.broadcast_to(a, shape).copy()
     return a
 

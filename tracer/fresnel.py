@@ -175,6 +175,18 @@ def _as_index(n) -> np.ndarray:
 
 def _forward_root(z: np.ndarray) -> np.ndarray:
     """Square root of ``z`` on the forward-wave branch (module docstring)."""
+    z = np.asarray(z)
+    if z.ndim and not z.imag.any():
+        # Lossless media (real z): sqrt(z) >= 0, or +i sqrt(-z) (decaying) - the same
+        # branch as below, at a fraction of the cost of the complex square root.
+        zr = z.real
+        root = np.sqrt(np.abs(zr))
+        q = np.zeros(z.shape, dtype=np.complex128)
+        neg = zr < 0
+        q.real = root
+        q.imag[neg] = root[neg]
+        q.real[neg] = 0.0
+        return q
     q = np.sqrt(z)
     flip = q.imag < -BRANCH_IMAG_TOL
     if np.any(flip):
