@@ -107,3 +107,12 @@ __all__ += ["WAVELENGTH_RANGE_RTOL"]
 AXIS_PARALLEL_SIN = 1e-9
 
 __all__ += ["AXIS_PARALLEL_SIN"]
+
+# --- analysis (tracer.analysis) ---------------------------------------------------------
+
+#: Budget accounts smaller than this fraction of the source power are left out of the
+#: budget tables (round-off of "parent minus children" bookings, ~1e-16 relative); they
+#: stay in the totals and the closure residual [1].
+BUDGET_ROUNDOFF = 1e-13
+
+__all__ += ["BUDGET_ROUNDOFF"]

@@ -1,0 +1,177 @@
+"""The power budget: where the source power goes.
+
+Built from the engine's power ledger. Every watt launched ends in exactly one account:
+
+* ``detector``: recorded on a plane detector;
+* ``absorbed (face)``: on an absorbing face, or absorbed by a lossy coating or gap layer;
+* ``absorbed (bulk)``: in the bulk of a solid (or of the ambient medium);
+* ``escaped``: left the assembly for good, booked under the last face it crossed
+  (``(no hit)`` for source rays that met nothing); a far-field detector sees all of it;
+* ``discarded``: children whose power fell below the trace's power threshold;
+* ``cut``: rays stopped at the event cap (``max_events``);
+* ``lost``: rays a numerical failure left with no exit (shown only when non-zero).
+
+The rows add up to the source power; :attr:`PowerBudget.residual_w` is what is left
+(round-off only, for a correct trace). Rows whose magnitude is below
+:data:`tracer.tolerances.BUDGET_ROUNDOFF` of the source power are left out of the
+tables (they are round-off of "parent minus children" bookings) but stay in the totals.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from .. import tolerances
+from .tables import csv_text, fmt_fraction, fmt_sci, format_table
+
+__all__ = ["BudgetRow", "PowerBudget", "power_budget", "CATEGORIES"]
+
+#: Budget categories, in table order.
+CATEGORIES = ("detector", "absorbed (face)", "absorbed (bulk)", "escaped", "discarded", "cut", "lost")
+
+
+@dataclass(frozen=True)
+class BudgetRow:
+    """One account of the budget.
+
+    Attributes
+    ----------
+    category : str
+        One of :data:`CATEGORIES`.
+    name : str
+        Detector, ``solid.face`` or solid name; ``"power threshold"`` / ``"event cap"``
+        for discarded / cut.
+    power_w : float [W]
+    fraction : float [1]
+        Of the source power.
+    """
+
+    category: str
+    name: str
+    power_w: float
+    fraction: float
+
+    def to_dict(self) -> dict:
+        return dict(category=self.category, name=self.name, power_w=self.power_w,
+                    fraction=self.fraction)
+
+
+@dataclass(frozen=True)
+class PowerBudget:
+    """Where the source power went (see the module docstring).
+
+    Attributes
+    ----------
+    source_power_w : float [W]
+    rows : list of BudgetRow
+    totals : dict
+        ``detected_w``, ``absorbed_w``, ``escaped_w``, ``discarded_w``, ``cut_w``
+        (cut includes lost) [W].
+    residual_w : float [W]
+        Source power minus every account (closure residual).
+    far_field : list of str
+        Far-field detectors (they see the escaped power).
+    """
+
+    source_power_w: float
+    rows: list = field(default_factory=list)
+    totals: dict = field(default_factory=dict)
+    residual_w: float = 0.0
+    far_field: list = field(default_factory=list)
+
+    @property
+    def relative_residual(self) -> float:
+        """``|residual| / source power`` [1]."""
+        return abs(self.residual_w) / self.source_power_w if self.source_power_w else 0.0
+
+    def category_total(self, category: str) -> float:
+        """Sum of the rows of one category [W]."""
+        return float(sum(r.power_w for r in self.rows if r.category == category))
+
+    def to_dict(self) -> dict:
+        return dict(source_power_w=self.source_power_w, rows=[r.to_dict() for r in self.rows],
+                    totals=dict(self.totals), residual_w=self.residual_w,
+                    relative_residual=self.relative_residual, far_field=list(self.far_field))
+
+    def to_csv(self) -> str:
+        """CSV text: category, name, power_w, fraction_of_source; then the residual."""
+        out = [[r.category, r.name, r.power_w, r.fraction] for r in self.rows]
+        out.append(["closure residual", "", self.residual_w,
+                    self.residual_w / self.source_power_w if self.source_power_w else 0.0])
+        return csv_text(["category", "name", "power_w", "fraction_of_source"], out)
+
+    def format_text(self) -> str:
+        """Aligned table with per-category subtotals and the closure residual."""
+        body = []
+        for cat in CATEGORIES:
+            rows = [r for r in self.rows if r.category == cat]
+            if not rows:
+                continue
+            for r in rows:
+                body.append([cat, r.name, fmt_sci(r.power_w), fmt_fraction(r.fraction)])
+        body.append(["total", "", fmt_sci(self.source_power_w - self.residual_w),
+                     fmt_fraction(1 - (self.residual_w / self.source_power_w
+                                       if self.source_power_w else 0.0))])
+        text = (f"power budget (source power {fmt_sci(self.source_power_w)} W)\n"
+                + format_table(["where", "account", "power [W]", "of source"], body,
+                               align="<<rr", indent="  "))
+        text += (f"\n  closure residual {fmt_sci(self.residual_w)} W "
+                 f"({fmt_sci(self.relative_residual)} of the source power)")
+        if self.far_field:
+            text += (f"\n  far-field detector{'s' if len(self.far_field) > 1 else ''} "
+                     f"{', '.join(self.far_field)} collect the escaped power")
+        return text
+
+
+def power_budget(result, *, source: str | None = None) -> PowerBudget:
+    """The power budget of a trace.
+
+    Parameters
+    ----------
+    result : tracer.engine.Result
+    source : str, optional
+        Budget of one source only (default: all sources together).
+
+    Returns
+    -------
+    PowerBudget
+    """
+    from ..errors import TracerError
+
+    led = result.ledger
+    index = None
+    if source is not None:
+        if source not in led.sources:
+            raise TracerError(f"unknown source {source!r}; sources: {', '.join(led.sources)}")
+        index = led.sources.index(source)
+    b = led.breakdown(index)
+    src = float(b["source_w"])
+    floor = tolerances.BUDGET_ROUNDOFF * src
+
+    def frac(x):
+        return x / src if src else 0.0
+
+    rows = []
+
+    def add(cat, name, value):
+        value = float(value)
+        if abs(value) > floor or (cat == "detector"):
+            rows.append(BudgetRow(cat, name, value, frac(value)))
+
+    for name, v in b["detectors"].items():
+        add("detector", name, v)
+    for name, v in sorted(b["absorbed_faces"].items(), key=lambda kv: -kv[1]):
+        add("absorbed (face)", name, v)
+    for name, v in sorted(b["absorbed_bulk"].items(), key=lambda kv: -kv[1]):
+        add("absorbed (bulk)", name, v)
+    for name, v in sorted(b["escaped_faces"].items(), key=lambda kv: -kv[1]):
+        add("escaped", name, v)
+    add("discarded", "power threshold", b["discarded_w"])
+    lost = float(b.get("lost_w", 0.0))
+    add("cut", "event cap", b["cut_w"] - lost)
+    add("lost", "no exit found", lost)
+    totals = {k: float(b[k]) for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w")}
+    totals["lost_w"] = lost
+    far = [d.name for d in getattr(result.compiled, "far_fields", [])]
+    return PowerBudget(source_power_w=src, rows=rows, totals=totals,
+                       residual_w=float(b["residual_w"]), far_field=far)

@@ -1,0 +1,123 @@
+"""The machine-readable run summary (``tracer run --json PATH``).
+
+The layout is documented key by key in ``docs/json-summary.md`` and versioned by
+``schema_version``: keys are only ever added within one version. Every number is a
+plain JSON number in SI units (watts, metres) or a fraction; values that would be
+infinite or undefined are ``null``.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from dataclasses import dataclass, field
+
+__all__ = ["RunAnalysis", "analyse", "run_summary", "write_json", "SCHEMA_NAME", "SCHEMA_VERSION"]
+
+SCHEMA_NAME = "tracer-run-summary"
+SCHEMA_VERSION = 1
+
+
+@dataclass
+class RunAnalysis:
+    """A trace with its analysis: budget, ghost tables and requirement verdicts."""
+
+    result: object
+    budget: object
+    ghosts: dict = field(default_factory=dict)
+    verdicts: list = field(default_factory=list)
+
+    @property
+    def passed(self) -> bool:
+        return all(v.passed for v in self.verdicts)
+
+
+def analyse(result) -> RunAnalysis:
+    """Budget, ghost table of every detector and requirement verdicts of a trace.
+
+    Parameters
+    ----------
+    result : tracer.engine.Result
+    """
+    from .budget import power_budget
+    from .ghosts import ghost_tables
+    from .requirements import evaluate
+
+    ghosts = ghost_tables(result)
+    return RunAnalysis(result=result, budget=power_budget(result), ghosts=ghosts,
+                       verdicts=evaluate(result, ghosts=ghosts))
+
+
+def _settings(result) -> dict:
+    o = result.options
+    return dict(
+        mode=str(o.mode), power_threshold=float(o.power_threshold), max_events=int(o.max_events),
+        seed=int(o.seed),
+        rays_requested=(o.rays if isinstance(o.rays, (int, type(None))) else dict(o.rays)),
+        rays_launched={n: int(result.launched[i]) for i, n in enumerate(result.source_names)},
+    )
+
+
+def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
+    """Plain-data summary of a run (see ``docs/json-summary.md``).
+
+    Parameters
+    ----------
+    analysis : RunAnalysis
+    max_paths : int
+        Paths listed per detector (strongest first); ``paths_total`` gives the count.
+    """
+    from .. import __version__
+
+    res = analysis.result
+    scene = res.scene
+    led = res.ledger
+    src = float(res.source_power_w)
+    budget = analysis.budget
+    b = led.breakdown()
+    detectors = {}
+    for name, table in analysis.ghosts.items():
+        d = table.to_dict(limit=max_paths)
+        d.pop("detector")
+        detectors[name] = d
+    ledger = dict(
+        source_w=src,
+        detected_w=budget.totals["detected_w"], absorbed_w=budget.totals["absorbed_w"],
+        escaped_w=budget.totals["escaped_w"], discarded_w=budget.totals["discarded_w"],
+        cut_w=budget.totals["cut_w"], lost_w=budget.totals["lost_w"],
+        residual_w=budget.residual_w, relative_residual=budget.relative_residual,
+        detectors={k: float(v) for k, v in b["detectors"].items()},
+        absorbed_faces={k: float(v) for k, v in b["absorbed_faces"].items()},
+        absorbed_bulk={k: float(v) for k, v in b["absorbed_bulk"].items()},
+        escaped_faces={k: float(v) for k, v in b["escaped_faces"].items()},
+    )
+    return dict(
+        schema=SCHEMA_NAME,
+        schema_version=SCHEMA_VERSION,
+        tool=dict(name="tracer", version=__version__),
+        scene=dict(title=getattr(scene, "title", ""), path=getattr(scene, "path", None),
+                   dimension=int(getattr(scene, "dimension", 3))),
+        settings=_settings(res),
+        seed=int(res.options.seed),
+        events=int(res.events),
+        source_power_w=src,
+        sources={n: dict(power_w=float(led.launched[i]), rays=int(res.launched[i]))
+                 for i, n in enumerate(led.sources)},
+        detectors=detectors,
+        ledger=ledger,
+        budget=[r.to_dict() for r in budget.rows],
+        requirements=[v.to_dict() for v in analysis.verdicts],
+        passed=analysis.passed,
+    )
+
+
+def write_json(data: dict, path: str | os.PathLike) -> None:
+    """Write ``data`` as indented UTF-8 JSON (strict: no NaN or Infinity)."""
+    from ..errors import TracerError
+
+    try:
+        with open(path, "w", encoding="utf-8") as fh:
+            json.dump(data, fh, indent=2, ensure_ascii=False, allow_nan=False)
+            fh.write("\n")
+    except OSError as exc:
+        raise TracerError(f"cannot write {os.fspath(path)}: {exc.strerror or exc}") from None
