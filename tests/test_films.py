@@ -145,9 +145,9 @@ def test_quarter_wave_mgf2_on_glass():
 def _ftir_airy(n, theta, d, wl, pol):
     """Frustrated TIR through a gap of index 1 between two media of index n.
 
-    Airy summation for a single film (Born & Wolf, Principles of Optics, 1999, Eq. 1.6(57)
-    for the transmitted amplitude t = t12 t23 e^{iβ}/(1 + r12 r23 e^{2iβ})) with the
-    imaginary phase β = i κ d beyond the critical angle; the Fresnel coefficients written
+    Airy summation for a single film (Born & Wolf, Principles of Optics, 1999, section 1.6.4;
+    equation number not recalled): transmitted amplitude t = t12 t23 e^{iβ}/(1 + r12 r23 e^{2iβ}),
+    with the imaginary phase β = i κ d beyond the critical angle; the Fresnel coefficients written
     out here with the decaying gap cosine.
     """
     c1 = np.cos(theta)
@@ -360,3 +360,18 @@ def test_property_matched_layer_invisible(n, n_other, d, d2, th, wl):
     alone = films.stack(n_in=n, layers=[(n, d)], n_out=n, wavelength=wl, angle=th)
     assert abs(alone.rs) < 1e-12 and abs(alone.rp) < 1e-12
     assert alone.Ts == pytest.approx(1.0, abs=1e-12)
+
+
+def test_index_models_accepted_and_bad_index_rejected():
+    class Const:  # tiny local index model
+        def refractive_index(self, wavelength, *, extrapolate=False):
+            return np.full(np.shape(wavelength), 1.38 + 0j)
+
+    wl = np.array([500e-9, 600e-9])
+    a = films.stack(n_in=1.0, layers=[(Const(), 100e-9)], n_out=1.52, wavelength=wl, angle=0.2)
+    b = films.stack(n_in=1.0, layers=[(1.38, 100e-9)], n_out=1.52, wavelength=wl, angle=0.2)
+    np.testing.assert_array_equal(a.rs, b.rs)
+    with pytest.raises(TracerError, match="refractive index"):
+        films.stack(n_in="glass", layers=[], n_out=1.52, wavelength=WL, angle=0.2)
+    with pytest.raises(TracerError, match="index model"):
+        fresnel.coefficients(n1=Const(), n2=1.5, angle=0.1)

@@ -9,7 +9,8 @@ from tracer.errors import TracerError
 
 
 def test_normal_incidence_glass_4_percent():
-    # R = ((n - 1)/(n + 1))^2 = 4.0 % for n = 1.5 (Born & Wolf, Principles of Optics, 1999, Eq. 1.5(26)).
+    # R = ((n - 1)/(n + 1))^2 = 4.0 % for n = 1.5 (Born & Wolf, Principles of Optics, 1999,
+    # section 1.5.3; common practice).
     c = fresnel.coefficients(n1=1.0, n2=1.5, angle=0.0)
     assert c.Rs == pytest.approx(0.04, abs=1e-15)
     assert c.Rp == pytest.approx(0.04, abs=1e-15)
@@ -43,7 +44,8 @@ def test_critical_angle_silica_like_to_air():
 def test_tir_phase_fresnel_rhomb():
     # n = 1.51 at 54.6 deg: 45 deg between the s and p phase shifts (the Fresnel rhomb,
     # Born & Wolf, Principles of Optics, 1999, section 1.5.4), with the published closed form
-    # tan(delta/2) = cos(theta) sqrt(sin^2 theta - n^-2) / sin^2 theta  (Born & Wolf Eq. 1.5(60)),
+    # tan(delta/2) = cos(theta) sqrt(sin^2 theta - n^-2) / sin^2 theta  (Born & Wolf section 1.5.4, Eq. (60)
+    # as recalled from memory),
     # delta = phase(rs) - phase(rp) in our convention.
     n = 1.51
     theta = np.radians(54.6)

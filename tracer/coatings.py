@@ -249,7 +249,7 @@ def stack(layers: Sequence, *, name: str = "stack") -> Coating:
 
 
 def _quarter_thickness(n_layer: float, design_wavelength: float, n_ambient: float, design_angle: float) -> float:
-    """Physical thickness of optical thickness λ0/4 at the design angle (Eq. 2.9x in [1])."""
+    """Physical thickness of optical thickness λ0/4 at the design angle ([1] ch. 2, tilted admittances)."""
     beta = n_ambient * math.sin(design_angle)
     q2 = n_layer * n_layer - beta * beta
     if q2 <= 0:

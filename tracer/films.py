@@ -13,8 +13,8 @@ Method (coherent)
 -----------------
 For s the transverse field pair is ``(E_y, H_x)``, for p it is ``(H_y, E_x)``; in a layer of
 phase thickness ``δ = k0 d q`` (``k0 = 2π/λ``) the pair at the front follows from the pair at
-the back through the characteristic matrix (Eq. 1.6(33) in [1], Eq. 2.98 in [2], written
-for our ``exp(-iωt)`` convention)::
+the back through the characteristic matrix ([1] section 1.6.2, [2] chapter 2; derived
+again here for our ``exp(-iωt)`` convention)::
 
     M = [[cos δ, -i sin δ / g], [-i g sin δ, cos δ]],   g = q (s),  g = q / n^2 (p).
 
@@ -307,10 +307,17 @@ def _incoherent(n_in, q_in, n_out, q_out, layers, k0, flags):
     return rs, ts, rp, tp, Rs, Ts, Rp, Tp
 
 
-def _parse_layers(layers):
+def _index(n, wavelength):
+    """A number/array as complex, or an index model evaluated at ``wavelength``."""
+    if hasattr(n, "refractive_index"):
+        return _as_index(n.refractive_index(wavelength))
+    return _as_index(n)
+
+
+def _parse_layers(layers, wavelength):
     if layers is None:
         return []
-    if not isinstance(layers, Sequence) or isinstance(layers, (str, bytes)):
+    if isinstance(layers, (str, bytes)) or not isinstance(layers, (Sequence, np.ndarray)):
         raise CoefficientError(
             "layers must be a list of (index, thickness [m]) pairs, "
             f"got {type(layers).__name__}"
@@ -323,7 +330,7 @@ def _parse_layers(layers):
             raise CoefficientError(
                 f"layers[{j}] must be a pair (index, thickness [m]), got {item!r}"
             ) from None
-        n = _as_index(n)
+        n = _index(n, wavelength)
         d = np.asarray(d, dtype=float)
         if np.any(d < 0) or np.any(np.isinf(d)):
             raise CoefficientError(
@@ -358,12 +365,13 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
 
     Parameters
     ----------
-    n_in : array_like complex [1]
+    n_in : array_like complex [1] or index model
         Index of the semi-infinite medium of incidence.
     layers : sequence of (index, thickness) pairs
-        Layers in the order light meets them; ``index`` array_like complex [1] and
-        ``thickness`` array_like float [m] (>= 0), each broadcast with the rays.
-    n_out : array_like complex [1]
+        Layers in the order light meets them; ``index`` array_like complex [1] (or an
+        index model, evaluated at ``wavelength``) and ``thickness`` array_like float [m]
+        (>= 0), each broadcast with the rays.
+    n_out : array_like complex [1] or index model
         Index of the semi-infinite exit medium.
     wavelength : array_like float [m]
         Vacuum wavelength.
@@ -394,9 +402,9 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
     wl = np.asarray(wavelength, dtype=float)
     if np.any(~(wl > 0)):
         raise CoefficientError(f"wavelength must be > 0 [m], got {wavelength!r}")
-    n_in = _as_index(n_in)
-    n_out = _as_index(n_out)
-    lay = _parse_layers(layers)
+    n_in = _index(n_in, wl)
+    n_out = _index(n_out, wl)
+    lay = _parse_layers(layers, wl)
     flags = _parse_flags(coherent, len(lay))
 
     shapes = [c_in.shape, wl.shape, n_in.shape, n_out.shape]

@@ -13,7 +13,8 @@ Quantities and conventions (ours, binding for the whole package)
       rs = (n1 c1 - n2 c2) / (n1 c1 + n2 c2)      ts = 2 n1 c1 / (n1 c1 + n2 c2)
       rp = (n2 c1 - n1 c2) / (n2 c1 + n1 c2)      tp = 2 n1 c1 / (n2 c1 + n1 c2)
 
-  (Eqs. 1.5(20)-(21) in [1], written with cosines.) At normal incidence ``rp = -rs``:
+  (Fresnel formulae, Eqs. 1.5(20)-(21) in [1] - equation numbers recalled from memory -
+  written with cosines.) At normal incidence ``rp = -rs``:
   the same physical field, because ``p̂`` of the reflected wave is reversed relative to
   the incident one. This is the convention of the ``tmm`` package [2]; the tests check
   it against ``tmm`` itself.
@@ -170,7 +171,12 @@ def cosine_of(*, angle=None, cos_angle=None) -> np.ndarray:
 
 
 def _as_index(n) -> np.ndarray:
-    return np.asarray(n, dtype=np.complex128)
+    try:
+        return np.asarray(n, dtype=np.complex128)
+    except (TypeError, ValueError):
+        hint = (" (an index model: evaluate it first, or use tracer.films.stack / "
+                "tracer.coatings, which take a wavelength)") if hasattr(n, "refractive_index") else ""
+        raise CoefficientError(f"a refractive index must be a number or an array of numbers, got {n!r}{hint}") from None
 
 
 def _forward_root(z: np.ndarray) -> np.ndarray:
