@@ -19,7 +19,10 @@ from .quantities import SceneUnits
 from .reader import Table
 from .toml_io import FORMAT_VERSION, migrate, parse_text
 
-__all__ = ["load", "loads", "from_dict", "TOP_LEVEL_KEYS"]
+__all__ = ["load", "loads", "from_dict", "TOP_LEVEL_KEYS", "INTERNAL_ERROR"]
+
+#: Start of the message of a problem that is a bug of the loader, not of the scene.
+INTERNAL_ERROR = "internal error while loading the scene"
 
 #: Every top-level key and table of format 1.
 TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum",
@@ -84,6 +87,10 @@ def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scen
         raise
     except RecursionError:  # absurdly nested input
         problems.error("", "document too deeply nested")
+        scene = None
+    except Exception as exc:  # noqa: BLE001 - last resort: bad input never shows a traceback
+        problems.error("", f"{INTERNAL_ERROR}: {type(exc).__name__}: {exc} (the other problems "
+                           "listed may be the cause; please report this scene)")
         scene = None
     problems.raise_if_any()
     return scene

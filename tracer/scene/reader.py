@@ -79,7 +79,11 @@ class Table:
 
     # ------------------------------------------------------------------ basics
     def path(self, name: str) -> str:
-        """Key path of ``name`` in this table."""
+        """Key path of ``name`` in this table (an index suffix such as ``[2]`` is kept)."""
+        name = str(name)
+        if name.endswith("]") and "[" in name:
+            base, _, index = name.partition("[")
+            return join(self.key, base) + "[" + index
         return join(self.key, name)
 
     def error(self, name: str | None, message: str) -> None:
