@@ -323,10 +323,12 @@ wavelength = st.floats(300e-9, 2e-6)
        ds=st.lists(thick, min_size=6, max_size=6), th=angle, wl=wavelength)
 def test_property_lossless_energy_conserved(n_in, n_out, ns, ds, th, wl):
     # R + T = 1 for lossless media (energy conservation), including beyond critical angles.
-    s = films.stack(n_in=n_in, layers=list(zip(ns, ds)), n_out=n_out, wavelength=wl, angle=th)
-    assert s.Rs + s.Ts == pytest.approx(1.0, abs=1e-9)
-    assert s.Rp + s.Tp == pytest.approx(1.0, abs=1e-9)
-    assert 0 <= s.Ts <= 1 + 1e-12 and 0 <= s.Tp <= 1 + 1e-12
+    for coherent in (True, False):  # also the incoherent power sum
+        s = films.stack(n_in=n_in, layers=list(zip(ns, ds)), n_out=n_out, wavelength=wl, angle=th,
+                        coherent=coherent)
+        assert s.Rs + s.Ts == pytest.approx(1.0, abs=1e-9)
+        assert s.Rp + s.Tp == pytest.approx(1.0, abs=1e-9)
+        assert 0 <= s.Ts <= 1 + 1e-12 and 0 <= s.Tp <= 1 + 1e-12
 
 
 @settings(max_examples=150, deadline=None)
