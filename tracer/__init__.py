@@ -7,9 +7,9 @@ The package is organised one concept per module (see ``DEVELOPERS.md``):
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "trace", "trace_sequence"]
+__all__ = ["__version__", "trace", "trace_sequence", "load"]
 
-_LAZY = {"trace": "tracer.engine", "trace_sequence": "tracer.engine"}
+_LAZY = {"trace": "tracer.engine", "trace_sequence": "tracer.engine", "load": "tracer.scene"}
 
 
 def __getattr__(name):  # lazy imports keep ``import tracer`` light
