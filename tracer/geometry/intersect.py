@@ -142,27 +142,47 @@ def halfspace_intersect(
 
 
 def _halfspace_block(normals, offsets, o, d, ins, t_min):
+    """(t, face) for one block of rays; entries for rays outside, exits for rays inside."""
+    t_res = np.full(len(o), np.inf)
+    f_res = np.full(len(o), -1, dtype=np.int64)
+    if ins.all():
+        return _halfspace_exit(normals, offsets, o, d, t_min)
+    if not ins.any():
+        return _halfspace_entry(normals, offsets, o, d, t_min)
+    out = ~ins
+    t_res[out], f_res[out] = _halfspace_entry(normals, offsets, o[out], d[out], t_min)
+    t_res[ins], f_res[ins] = _halfspace_exit(normals, offsets, o[ins], d[ins], t_min)
+    return t_res, f_res
+
+
+def _halfspace_entry(normals, offsets, o, d, t_min):
+    # entry: the last entering plane (den < 0), before the first leaving one (den > 0, any t);
+    # a ray parallel to a plane and outside it (den == 0, num < 0) misses
     den = d @ normals.T  # (C, F)
-    num = offsets - o @ normals.T  # distance-like: > 0 inside the half-space
+    num = offsets - o @ normals.T  # > 0 inside the half-space
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
-    t_in = np.where(den < 0, t, -np.inf)  # entering planes
-    t_lv = np.where(den > 0, t, np.inf)  # leaving planes
+    t_in = np.where(den < 0, t, -np.inf)
     f_in = np.argmax(t_in, axis=1)
-    rows = np.arange(len(o))
-    te = t_in[rows, f_in]
+    te = np.take_along_axis(t_in, f_in[:, None], axis=1)[:, 0]
+    t_lv = np.where(den > 0, t, np.inf).min(axis=1)
     blocked = ((den == 0) & (num < 0)).any(axis=1)
-    # entry: the last entering plane, before the first leaving one (any t)
-    entry = ~ins & ~blocked & (te > t_min) & (te <= t_lv.min(axis=1))
-    # exit: the first leaving plane ahead; a plane already behind the ray (round-off
-    # after a hit near an edge) is skipped
-    t_lv[t_lv <= t_min] = np.inf
+    hit = (te > t_min) & (te <= t_lv) & ~blocked
+    return np.where(hit, te, np.inf), np.where(hit, f_in, -1)
+
+
+def _halfspace_exit(normals, offsets, o, d, t_min):
+    # exit: the first leaving plane ahead; a plane already behind the ray (round-off after
+    # a hit near an edge) is skipped
+    den = d @ normals.T
+    num = offsets - o @ normals.T
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = num / den
+    t_lv = np.where((den > 0) & (t > t_min), t, np.inf)
     f_lv = np.argmin(t_lv, axis=1)
-    tx = t_lv[rows, f_lv]
-    exit_ = ins & np.isfinite(tx)
-    t_res = np.where(entry, te, np.where(exit_, tx, np.inf))
-    f_res = np.where(entry, f_in, np.where(exit_, f_lv, -1))
-    return t_res, f_res
+    tx = np.take_along_axis(t_lv, f_lv[:, None], axis=1)[:, 0]
+    hit = np.isfinite(tx)
+    return tx, np.where(hit, f_lv, -1)
 
 
 def triangle_intersect(
