@@ -1,7 +1,7 @@
 """Solids with named planar faces, the prism catalog, placement and ray intersection.
 
-Modules: :mod:`.solid` (the :class:`Solid` contract, :class:`ConvexSolid`,
-:class:`MeshSolid`), :mod:`.transforms`, :mod:`.catalog` (registry) and
+Modules: :mod:`.solid` (the :class:`Solid` contract, :class:`ConvexSolid`),
+:mod:`.meshsolid` (:class:`MeshSolid`), :mod:`.transforms`, :mod:`.catalog` (registry) and
 :mod:`.catalog_prisms` (builders), :mod:`.extrude`, :mod:`.polyhedron`, :mod:`.mesh`,
 :mod:`.mating`, :mod:`.gaps`, :mod:`.intersect`. Lengths in metres, angles in radians.
 """
