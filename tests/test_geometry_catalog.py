@@ -232,3 +232,64 @@ def test_parameter_validation():
     for k in KINDS.values():
         assert {p.kind for p in k.parameters} <= {"length", "angle", "count", "choice", "bool"}
         assert k.doc
+
+
+def _reflect_until(solid, origin, direction, stop, max_events=8):
+    """Follow a ray in from outside, reflecting at every face until it meets a face in ``stop``."""
+    t, f = solid.intersect(origin[None], direction[None], False)
+    p, d = origin + t[0] * direction, direction.copy()
+    path = [solid.face_names[f[0]]]
+    for _ in range(max_events):
+        t, f = solid.intersect(p[None], d[None], True)
+        assert np.isfinite(t[0])
+        p = p + t[0] * d
+        path.append(solid.face_names[f[0]])
+        if path[-1] in stop:
+            break
+        n = solid.face_normals[f[0]]
+        d = d - 2 * (d @ n) * n
+    return path, d
+
+
+def _aperture_points(solid, face, count=9):
+    poly = solid.face_polygons[solid.face_index(face)]
+    mid = np.unique(poly[:, :2].round(15), axis=0)  # the face's two edge points in the x-y plane
+    a, b = np.append(mid[0], 0.0), np.append(mid[1], 0.0)
+    return [a + f * (b - a) for f in np.linspace(0.01, 0.99, count)]
+
+
+@pytest.mark.parametrize(
+    "kind, params, design",
+    [
+        ("rhomb", dict(aperture=0.01), ["entrance", "reflector_a", "reflector_b", "exit"]),
+        ("rhomb", dict(aperture=0.01, style="fresnel"), ["entrance", "reflector_a", "reflector_b", "exit"]),
+        ("penta_prism", dict(aperture=0.01), ["entrance", "reflector_a", "reflector_b", "exit"]),
+    ],
+)
+def test_full_aperture_follows_the_design_path(kind, params, design):
+    # the default dimensions pass the whole entrance aperture (normal incidence) through the
+    # design path: Smith ch. 8 for the penta prism; for the rhomb our own default length
+    s = build(kind, **params)
+    n_in = s.face_normals[s.face_index("entrance")]
+    for q in _aperture_points(s, "entrance"):
+        path, d = _reflect_until(s, q + 1e-3 * n_in, -n_in, stop={"exit", "entrance"})
+        assert path == design
+        np.testing.assert_allclose(d, s.face_normals[s.face_index("exit")], atol=1e-12)
+
+
+def test_corner_cube_traced_retroreflection():
+    s = build("corner_cube", size=0.01)
+    n = s.face_normals[s.face_index("entrance")]
+    rng = np.random.default_rng(11)
+    c = s.face_centroid("entrance")
+    for _ in range(20):
+        d = -n + 0.05 * rng.normal(size=3)  # near-normal, near the centre: inside the
+        # hexagonal retroreflecting aperture (rays near the corners meet only two reflectors)
+        d /= np.linalg.norm(d)
+        u = rng.normal(size=3)
+        u -= (u @ n) * n
+        start = c + 0.0005 * u / np.linalg.norm(u) - 0.01 * d
+        path, out = _reflect_until(s, start, d, stop={"entrance"})
+        assert path[0] == "entrance" and path[-1] == "entrance"
+        assert sorted(path[1:-1]) == ["reflector_a", "reflector_b", "reflector_c"]
+        np.testing.assert_allclose(out, -d, atol=1e-12)
