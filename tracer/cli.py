@@ -22,6 +22,11 @@ __all__ = ["main", "build_parser", "COMMAND_MODULES"]
 COMMAND_MODULES = (
     "tracer.commands.coefficients",
     "tracer.commands.check",
+    "tracer.commands.run",
+    "tracer.commands.path",
+    "tracer.commands.ghosts",
+    "tracer.commands.draw",
+    "tracer.commands.report",
 )
 
 EXIT_OK, EXIT_REQUIREMENT_FAILED, EXIT_INPUT_ERROR = 0, 1, 2

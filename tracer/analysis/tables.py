@@ -101,7 +101,8 @@ def fmt_length_mm(x: float | None, digits: int = 3) -> str:
     """
     if x is None:
         return "-"
-    return f"{1e3 * x:.{digits}f}"
+    text = f"{1e3 * x:.{digits}f}"
+    return text[1:] if text.lstrip("-0.") == "" and text.startswith("-") else text
 
 
 def finite_or_none(x):

@@ -1,0 +1,160 @@
+"""Options and helpers shared by the subcommands that trace a scene.
+
+Consistent options: ``--out DIR``, ``--rays N``, ``--seed N``, ``--threshold X``,
+``--max-events N``, ``--mode``, ``--json PATH``, ``--quiet``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+from ..errors import TracerError
+
+__all__ = ["add_scene", "add_trace_options", "add_output_options", "load_scene", "trace_scene",
+           "out_dir", "say", "plot_module", "write_text"]
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {text!r}")
+    return value
+
+
+def _seed(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"expected a non-negative whole number, got {text!r}")
+    return value
+
+
+def _fraction(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a fraction such as 1e-6, got {text!r}") from None
+    if not 0 <= value < 1:
+        raise argparse.ArgumentTypeError(f"expected a fraction in [0, 1), got {text!r}")
+    return value
+
+
+def add_scene(parser, *, many: bool = False) -> None:
+    """The scene file argument(s)."""
+    if many:
+        parser.add_argument("scenes", nargs="+", metavar="SCENE", help="scene files (.toml)")
+    else:
+        parser.add_argument("scene", metavar="SCENE", help="scene file (.toml)")
+
+
+def add_trace_options(parser) -> None:
+    """``--rays``, ``--seed``, ``--threshold``, ``--max-events``, ``--mode``."""
+    g = parser.add_argument_group("trace settings (default: from the scene file)")
+    g.add_argument("--rays", type=_positive_int, metavar="N",
+                   help="geometric rays per spectral line for every source")
+    g.add_argument("--seed", type=_seed, metavar="N", help="random seed")
+    g.add_argument("--threshold", type=_fraction, metavar="X",
+                   help="power threshold: children below this fraction of their source ray's "
+                        "power are discarded")
+    g.add_argument("--max-events", type=_positive_int, metavar="N",
+                   help="rays reaching this many events are cut")
+    g.add_argument("--mode", choices=("tree", "monte-carlo"),
+                   help="tree: split every ray (exact path powers); monte-carlo: one child per event")
+
+
+def add_output_options(parser, *, out: bool = True, json_help: str | None = None) -> None:
+    """``--out DIR``, ``--json PATH``, ``--quiet``."""
+    if out:
+        parser.add_argument("--out", metavar="DIR", help="output folder (created if missing)")
+    parser.add_argument("--json", metavar="PATH", help=json_help or "write the JSON summary to PATH")
+    parser.add_argument("--quiet", "-q", action="store_true", help="print only problems and failures")
+
+
+def load_scene(path: str):
+    """Load a scene; a missing file or any problem is a TracerError listing every problem."""
+    from ..scene import load
+
+    if not os.path.exists(path):
+        raise TracerError(f"{path}: no such scene file")
+    return load(path)
+
+
+def trace_settings(args) -> dict:
+    """Trace settings from the command-line options (only those given)."""
+    settings = {}
+    for opt, key in (("rays", "rays"), ("seed", "seed"), ("threshold", "power_threshold"),
+                     ("max_events", "max_events"), ("mode", "mode")):
+        v = getattr(args, opt, None)
+        if v is not None:
+            settings[key] = v
+    return settings
+
+
+def trace_scene(scene, args, **extra):
+    """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
+    from ..engine import trace
+
+    settings = trace_settings(args)
+    settings.update(extra)
+    settings.setdefault("progress", None if not getattr(args, "quiet", False) else False)
+    return trace(scene, **settings)
+
+
+def out_dir(path: str | None, default: str | None = None) -> Path | None:
+    """Create and return the output folder (``None`` when neither is given)."""
+    target = path or default
+    if target is None:
+        return None
+    p = Path(target)
+    try:
+        p.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise TracerError(f"--out {target}: cannot create the folder: {exc.strerror or exc}") from None
+    if not p.is_dir():
+        raise TracerError(f"--out {target}: not a folder")
+    return p
+
+
+def write_text(path: Path, text: str) -> Path:
+    """Write UTF-8 text; an unwritable path is a TracerError."""
+    try:
+        Path(path).write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise TracerError(f"cannot write {path}: {exc.strerror or exc}") from None
+    return Path(path)
+
+
+def say(args, *lines) -> None:
+    """Print unless ``--quiet``."""
+    if not getattr(args, "quiet", False):
+        for line in lines:
+            print(line)
+
+
+def plot_module():
+    """:mod:`tracer.plot` when it (and matplotlib) import, else ``None``."""
+    try:
+        from .. import plot
+    except ImportError:
+        return None
+    return plot
+
+
+def scene_stem(scene) -> str:
+    """File stem for outputs of ``scene`` (its file name, else its title)."""
+    if getattr(scene, "path", None):
+        return Path(scene.path).stem
+    title = getattr(scene, "title", "") or "scene"
+    return "".join(c if c.isalnum() or c in "-_" else "_" for c in title).strip("_") or "scene"
+
+
+def stderr(text: str) -> None:
+    print(text, file=sys.stderr)

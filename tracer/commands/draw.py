@@ -1,0 +1,68 @@
+"""``tracer draw``: figures of a scene and its traced rays.
+
+Writes into ``--out DIR`` (default: the current folder) one file per figure:
+``rays`` (section of the solids with the traced rays, opacity and width falling with
+power), ``rays3d`` (3D view), ``budget`` (where the power goes), ``irradiance`` and
+``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction). Choose
+with ``--kind`` (repeatable; default ``rays``, ``all`` for every kind) and the formats
+with ``--format`` (png, svg).
+"""
+
+from __future__ import annotations
+
+from . import _common as c
+
+NAME = "draw"
+HELP = "draw ray diagrams, detector maps and the power budget as PNG/SVG"
+DESCRIPTION = __doc__
+EXAMPLES = """examples:
+  tracer draw scenes/tir_prism_pair.toml
+  tracer draw scenes/cube_beamsplitter_camera.toml --kind rays --kind irradiance --out figures
+  tracer draw scenes/porro_erecting_pair.toml --kind all --format svg --format png --out figures
+  tracer draw scenes/plate_ghost.toml --rays 50 --threshold 1e-8
+
+exit codes: 0 success, 2 input error (or no plotting available)
+"""
+
+
+def add_arguments(parser) -> None:
+    from ..report.figures import KINDS
+
+    c.add_scene(parser)
+    parser.add_argument("--kind", action="append", choices=KINDS + ("all",), metavar="KIND",
+                        help=f"figure kind: {', '.join(KINDS)} or all (repeatable; default rays)")
+    parser.add_argument("--format", action="append", choices=("png", "svg"), metavar="FMT",
+                        help="file format: png or svg (repeatable; default png)")
+    parser.add_argument("--segments", type=int, default=4000, metavar="N",
+                        help="ray segments recorded for the diagrams (default 4000)")
+    c.add_trace_options(parser)
+    parser.add_argument("--out", metavar="DIR", default=".", help="output folder (default: current)")
+    parser.add_argument("--quiet", "-q", action="store_true", help="print only problems")
+
+
+def run(args) -> int:
+    from ..analysis import analyse
+    from ..errors import TracerError
+    from ..report.figures import KINDS, save_figures
+
+    if c.plot_module() is None:
+        raise TracerError("drawing needs matplotlib: pip install matplotlib")
+    kinds = args.kind or ["rays"]
+    kinds = list(KINDS) if "all" in kinds else list(dict.fromkeys(kinds))
+    formats = tuple(dict.fromkeys(args.format or ["png"]))
+    scene = c.load_scene(args.scene)
+    out = c.out_dir(args.out)
+    result = c.trace_scene(scene, args, segments=max(int(args.segments), 0))
+    analysis = analyse(result) if "budget" in kinds else None
+    skipped: list = []
+    stem = c.scene_stem(scene)
+    files = save_figures(result, analysis, out, kinds=kinds, formats=formats, skipped=skipped,
+                         prefix=f"{stem}-")
+    if not args.quiet:
+        for f in files:
+            print(f"wrote {f}")
+    for kind, why in skipped:
+        print(f"tracer draw: {kind} not drawn: {why}")
+    if not files:
+        raise TracerError(f"no figure drawn for {args.scene}")
+    return 0

@@ -1,0 +1,94 @@
+"""``tracer run``: trace a scene non-sequentially and analyse where the light goes.
+
+Prints the power budget (every detector, absorbed per face and per bulk, escaped per
+exit face, discarded by the power threshold, cut by the event cap, and the closure
+residual), the ghost table of each detector (paths ranked by power, the design path
+marked) and the verdict of every requirement of the scene.
+
+With ``--out DIR`` it also writes ``summary.json``, ``budget.csv``, one
+``ghosts-DETECTOR.csv`` per detector and, unless ``--no-figures``, the power-budget
+figure and a ray diagram as PNG. ``--json PATH`` writes the JSON summary (layout in
+docs/json-summary.md) anywhere.
+
+Exit code 1 when any requirement fails (the failing ones are listed), 2 for an input
+error (every problem of the scene is printed), else 0.
+"""
+
+from __future__ import annotations
+
+from . import _common as c
+
+NAME = "run"
+HELP = "trace a scene, print the power budget, ghost tables and requirement verdicts"
+DESCRIPTION = __doc__
+EXAMPLES = """examples:
+  tracer run scenes/plate_ghost.toml
+  tracer run scenes/tir_prism_pair.toml --rays 200 --out results/tir
+  tracer run scenes/cube_beamsplitter_camera.toml --threshold 1e-8 --json cube.json --quiet
+  tracer run scenes/penta_prism_laser.toml --top 5 --seed 7
+
+exit codes: 0 success, 1 a requirement failed, 2 input error
+"""
+
+
+def add_arguments(parser) -> None:
+    c.add_scene(parser)
+    c.add_trace_options(parser)
+    c.add_output_options(parser)
+    parser.add_argument("--top", type=int, default=10, metavar="N",
+                        help="paths shown per detector in the printed ghost tables (default 10; "
+                             "files hold every path)")
+    parser.add_argument("--no-figures", action="store_true",
+                        help="with --out: write tables and JSON only")
+
+
+def run(args) -> int:
+    from ..analysis import analyse, format_verdicts, run_summary, write_json
+
+    scene = c.load_scene(args.scene)
+    out = c.out_dir(args.out)
+    want_figures = out is not None and not args.no_figures
+    result = c.trace_scene(scene, args, segments=4000 if want_figures else 0)
+    analysis = analyse(result)
+    top = max(int(args.top), 0)
+
+    if not args.quiet:
+        print(f"{scene.title} ({args.scene})")
+        print(f"traced {result.events} events, {sum(int(n) for n in result.launched)} source rays, "
+              f"mode {result.options.mode}, seed {result.options.seed}, "
+              f"power threshold {result.options.power_threshold:g}, "
+              f"at most {result.options.max_events} events per ray")
+        print()
+        print(analysis.budget.format_text())
+        for table in analysis.ghosts.values():
+            print()
+            print(table.format_text(limit=top))
+        print()
+    if analysis.verdicts and (not args.quiet or not analysis.passed):
+        print(format_verdicts(analysis.verdicts))
+    elif not args.quiet:
+        print("requirements: none declared")
+
+    summary = run_summary(analysis)
+    written = []
+    if args.json:
+        write_json(summary, args.json)
+        written.append(args.json)
+    if out is not None:
+        write_json(summary, out / "summary.json")
+        written.append(str(out / "summary.json"))
+        written.append(str(c.write_text(out / "budget.csv", analysis.budget.to_csv())))
+        for name, table in analysis.ghosts.items():
+            written.append(str(c.write_text(out / f"ghosts-{name}.csv", table.to_csv())))
+        if want_figures:
+            from ..report.figures import save_figures
+
+            skipped: list = []
+            written += [str(p) for p in save_figures(result, analysis, out,
+                                                     kinds=("budget", "rays"), skipped=skipped)]
+            for kind, why in skipped:
+                c.say(args, f"figure {kind} not drawn: {why}")
+    if written and not args.quiet:
+        print()
+        print("wrote " + ", ".join(written))
+    return 0 if analysis.passed else 1
