@@ -104,8 +104,12 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
         p = pending.get(name)
         if p is None or position is None or rotation is None:
             continue
-        matrix = shapes.rotation_matrix(*rotation)
-        _finish_solid(p, shapes.place(p.local, matrix, position), build)
+        try:
+            placed = shapes.place(p.local, shapes.rotation_matrix(*rotation), position)
+        except TracerError as exc:
+            p.table.error("position", f"cannot place the solid there: {exc}")
+            continue
+        _finish_solid(p, placed, build)
 
     # mated solids, in dependency order
     mated = []

@@ -1,0 +1,86 @@
+"""``tracer check``: exit codes, the readable summary and the JSON structure."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from tracer.cli import main
+
+SCENES = sorted((Path(__file__).parent.parent / "scenes").glob("*.toml"))
+
+
+@pytest.mark.parametrize("path", SCENES, ids=[p.stem for p in SCENES])
+def test_check_demo_scene_exits_0(path, capsys):
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
+    for section in ("solids (", "gaps (", "sources (", "detectors (", "requirements ("):
+        assert section in out
+    assert "1 scene valid." in out
+
+
+def test_check_gap_in_micrometres(capsys):
+    assert main(["check", str(Path(SCENES[0]).parent / "tir_prism_pair.toml")]) == 0
+    out = capsys.readouterr().out
+    assert "tir: lower.hypotenuse | upper.hypotenuse: 5 µm of air, declared" in out
+    assert "leg_a: stack (ar_550)" in out
+
+
+def test_check_broken_scene_exits_2(tmp_path, capsys):
+    bad = tmp_path / "bad.toml"
+    bad.write_text((SCENES[0].parent / "tir_prism_pair.toml").read_text()
+                   .replace('coating = "ar_550"', 'coating = "ar-550"', 1)
+                   .replace('power = "100 mW"', 'power = "100 mm"'))
+    assert main(["check", str(bad), str(SCENES[0])]) == 2
+    captured = capsys.readouterr()
+    err = captured.err
+    assert "2 problems:" in err
+    assert f'{bad}: solids.lower.faces.leg_a.coating: unknown coating "ar-550"; did you mean "ar_550"?' in err
+    assert f"{bad}: sources.illumination.power: expected a power" in err
+    assert "Traceback" not in err + captured.out
+
+
+def test_check_syntax_error(tmp_path, capsys):
+    bad = tmp_path / "syntax.toml"
+    bad.write_text("format = 1\ntitle = \n")
+    assert main(["check", str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert f"{bad}:2:" in err and "TOML syntax error" in err
+
+
+def test_check_missing_file(tmp_path, capsys):
+    assert main(["check", str(tmp_path / "nope.toml")]) == 2
+    assert "cannot read the file" in capsys.readouterr().err
+
+
+def test_check_json_structure(capsys):
+    paths = [str(p) for p in SCENES]
+    assert main(["check", "--json", *paths]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["valid"] is True and data["problems"] == []
+    assert len(data["scenes"]) == len(paths)
+    for scene in data["scenes"]:
+        assert set(scene) >= {"file", "format", "title", "dimension", "ambient", "spectrum", "trace",
+                              "solids", "gaps", "sources", "detectors", "requirements", "notes"}
+        for solid in scene["solids"].values():
+            assert {"kind", "material", "faces", "volume_m3", "bounds_m"} <= set(solid)
+            for face in solid["faces"].values():
+                assert face["treatment"] in ("uncoated", "stack", "ideal", "mirror", "absorber")
+        for gap in scene["gaps"].values():
+            assert gap["origin"] in ("declared", "mated", "automatic")
+            assert gap["thickness_m"] >= 0 and len(gap["faces"]) == 2
+    tir = next(s for s in data["scenes"] if s["file"].endswith("tir_prism_pair.toml"))
+    assert tir["gaps"]["tir"]["thickness_m"] == pytest.approx(5e-6, abs=1e-12)
+    assert tir["sources"]["illumination"]["power_W"] == pytest.approx(0.1)
+
+
+def test_check_json_problems(tmp_path, capsys):
+    bad = tmp_path / "bad.toml"
+    bad.write_text('format = 1\ntitel = "x"\n[spectrum]\nwavelengths = ["550 nm"]\n')
+    assert main(["check", "--json", str(bad)]) == 2
+    data = json.loads(capsys.readouterr().out)
+    assert data["valid"] is False
+    (p,) = data["problems"]
+    assert p["key"] == "titel" and p["file"] == str(bad) and 'did you mean "title"' in p["message"]
