@@ -2,10 +2,11 @@
 
 >>> from tracer.scene import loads, SceneError
 >>> try:
-...     loads("format = 1\\ntitel = 'x'", path="x.toml")
+...     loads('format = 1\\ntitel = "x"\\n[spectrum]\\nwavelengths = ["550 nm"]', path="x.toml")
 ... except SceneError as exc:
-...     print(exc.problems[0])
-x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, dimension, format, length_unit, seed, title)
+...     for problem in exc.problems:
+...         print(problem)
+x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, coatings, detectors, dimension, format, gap_finding, gaps, length_unit, materials, requirements, seed, solids, ...)
 
 The format is described key by key in ``docs/scene-format.md``.
 """
