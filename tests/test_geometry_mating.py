@@ -7,6 +7,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from tracer.geometry import (
     GeometryError,
@@ -159,3 +161,41 @@ def test_overlapping_solids():
     assert overlap_volume(ell, in_notch) == pytest.approx(0.0, abs=1e-18)
     assert overlap_volume(ell, in_foot) == pytest.approx(0.004 * 0.003 * 0.004, rel=1e-9)
     assert overlap_volume(ell, ell) == pytest.approx(ell.volume, rel=1e-9)
+
+
+MATE_SOLIDS = {
+    "right_angle_prism": dict(leg=0.02),
+    "penta_prism": dict(aperture=0.01),
+    "corner_cube": dict(size=0.01),
+    "dispersing_prism": dict(apex_angle=1.0, side=0.02),
+}
+
+angles = st.floats(-math.pi, math.pi, allow_nan=False)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    kinds=st.tuples(st.sampled_from(sorted(MATE_SOLIDS)), st.sampled_from(sorted(MATE_SOLIDS))),
+    faces=st.tuples(st.integers(0, 6), st.integers(0, 6)),
+    pose=st.tuples(angles, angles, angles),
+    gap=st.floats(0, 1e-3),
+    offset=st.tuples(st.floats(-5e-3, 5e-3), st.floats(-5e-3, 5e-3)),
+    spin=angles,
+    wedge=st.floats(-0.1, 0.1),
+)
+def test_mate_property(kinds, faces, pose, gap, offset, spin, wedge):
+    # for any pose and faces: faces anti-parallel up to the wedge, the moving centroid at
+    # the stated (u, v) offset and at distance gap from the fixed plane
+    fixed = build(kinds[0], **MATE_SOLIDS[kinds[0]]).transformed(rotation_matrix(*pose), [0.1, -0.2, 0.3])
+    moving = build(kinds[1], **MATE_SOLIDS[kinds[1]])
+    ff = faces[0] % len(fixed.face_names)
+    mf = faces[1] % len(moving.face_names)
+    m = mate(moving, mf, fixed, ff, gap=gap, offset=offset, spin=spin, wedge=wedge)
+    u, v, n = fixed.face_frame(ff)
+    nm = m.solid.face_normals[mf]
+    assert -nm @ n == pytest.approx(math.cos(wedge), abs=1e-12)
+    assert nm @ u == pytest.approx(0.0, abs=1e-12)  # the tilt is about u only
+    cm = m.solid.face_centroid(mf)
+    rel = cm - fixed.face_centroid(ff)
+    np.testing.assert_allclose([rel @ u, rel @ v, rel @ n], [offset[0], offset[1], gap], atol=1e-15)
+    np.testing.assert_allclose(m.solid.volume, moving.volume, rtol=1e-12)

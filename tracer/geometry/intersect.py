@@ -354,11 +354,17 @@ def get_backend(name: str) -> IntersectionBackend:
 def _sphere_candidates(o, d, centres, radii2):
     """(C, S) bool: rays whose line meets each bounding sphere ahead of (or around) them."""
     a = np.einsum("ij,ij->i", d, d)[:, None]
-    oc = o @ centres.T  # (C, S)
-    dc = d @ centres.T
-    b = np.einsum("ij,ij->i", d, o)[:, None] - dc  # d . (o - c)
-    cc = np.einsum("ij,ij->i", o, o)[:, None] - 2 * oc + np.einsum("ij,ij->i", centres, centres) - radii2
-    return (b * b - a * cc >= 0) & ((b < 0) | (cc < 0))
+    b = d @ centres.T  # becomes d . (o - c)
+    np.subtract(np.einsum("ij,ij->i", d, o)[:, None], b, out=b)
+    cc = o @ centres.T  # becomes |o - c|^2 - r^2
+    cc *= -2.0
+    cc += np.einsum("ij,ij->i", o, o)[:, None]
+    cc += np.einsum("ij,ij->i", centres, centres) - radii2
+    disc = b * b
+    disc -= a * cc
+    hit = disc >= 0
+    hit &= (b < 0) | (cc < 0)
+    return hit
 
 
 def intersect_many(
