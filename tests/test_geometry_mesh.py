@@ -166,3 +166,26 @@ def test_load_mesh_from_file(tmp_path):
     trimesh.Trimesh(ref.vertices, ref.faces[1:]).export(bad)
     with pytest.raises(GeometryError, match="open.stl: not watertight"):
         load_mesh(bad)
+
+
+@pytest.mark.parametrize(
+    "make",
+    [
+        lambda: trimesh.creation.extrude_polygon(shapely.Polygon(L_SHAPE), 0.01),
+        lambda: trimesh.creation.box(extents=[1, 2, 3]),
+        lambda: trimesh.creation.cylinder(radius=1.0, height=2.0, sections=12),
+        lambda: trimesh.creation.icosphere(subdivisions=1),
+    ],
+)
+def test_facets_match_trimesh(make):
+    # reference library: trimesh's facets (coplanar edge-connected groups of >= 2 triangles);
+    # every other triangle is a lone facet
+    from tracer.geometry.mesh import group_facets
+
+    m = make()
+    labels = group_facets(m.vertices, m.faces)
+    in_facet = np.zeros(len(m.faces), dtype=bool)
+    for group in m.facets:
+        assert len(set(labels[group])) == 1
+        in_facet[group] = True
+    assert len(np.unique(labels)) == len(m.facets) + (~in_facet).sum()
