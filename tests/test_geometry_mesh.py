@@ -5,7 +5,6 @@ library) for meshes, facets and hulls.
 """
 
 import itertools
-import math
 
 import numpy as np
 import pytest
