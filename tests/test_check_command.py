@@ -84,3 +84,24 @@ def test_check_json_problems(tmp_path, capsys):
     assert data["valid"] is False
     (p,) = data["problems"]
     assert p["key"] == "titel" and p["file"] == str(bad) and 'did you mean "title"' in p["message"]
+
+
+def test_reference_page_mentions_every_key_and_kind():
+    """docs/scene-format.md documents every section, kind and model the loader accepts."""
+    from tracer.geometry.catalog import KINDS
+    from tracer.scene.loader import TOP_LEVEL_KEYS
+    from tracer.scene.media import MATERIAL_MODELS
+    from tracer.scene.requirements import REQUIREMENT_KINDS
+    from tracer.scene.sources import POLARIZATION_KINDS, SOURCE_KINDS
+    from tracer.scene.treatments import COATING_KINDS
+    from tracer.scene.detectors import DETECTOR_KINDS
+    text = (Path(__file__).parent.parent / "docs" / "scene-format.md").read_text()
+    words = [*TOP_LEVEL_KEYS, *MATERIAL_MODELS, *COATING_KINDS, *SOURCE_KINDS, *POLARIZATION_KINDS,
+             *DETECTOR_KINDS, *REQUIREMENT_KINDS, *KINDS, "polygon", "polyhedron", "mesh", "mate",
+             "gap_name", "offset", "spin", "wedge", "on_face", "detects", "two_sided", "x_axis",
+             "half_angle", "sampling", "bandwidth", "weights", "power_threshold", "max_events",
+             "sequence", "max_separation", "max_angle", "coherence", "side_names", "face_names",
+             "labels", "valid_range", "loss_tangent", "design_wavelength", "design_angle", "pairs",
+             "waves", "degree", "ellipticity", "azimuth", "handedness", "stokes"]
+    missing = [w for w in words if f"`{w}`" not in text and f'"{w}"' not in text and f"[{w}" not in text]
+    assert not missing, missing

@@ -74,16 +74,14 @@ def _limit(t: Table, kind: str, raw):
             pass
     try:
         value = units.fraction(raw)
-    except TracerError as exc:
+    except TracerError:
         expected = ('a power such as "1 mW" or a fraction such as 0.5 or "50 %"'
                     if kind == "min_power" else 'a fraction such as 0.001 or "0.1 %"')
         t.error("limit", f"expected {expected}, got {describe_value(raw)}")
-        del exc
         return None, True
-    if not 0.0 <= value <= (1.0 if kind == "min_power" else float("inf")):
-        t.error("limit", f"expected a fraction between 0 and 1, got {describe_value(raw)}")
-        return None, True
-    if value < 0:
-        t.error("limit", f"expected a non-negative fraction, got {describe_value(raw)}")
+    upper = float("inf") if kind == "max_ghost_fraction" else 1.0
+    if not 0.0 <= value <= upper:
+        t.error("limit", f"expected a fraction between 0 and 1, got {describe_value(raw)}"
+                if upper == 1.0 else f"expected a non-negative fraction, got {describe_value(raw)}")
         return None, True
     return value, True

@@ -162,7 +162,8 @@ def format_summary(summary: dict) -> str:
     for name, so in s["sources"].items():
         extra = ""
         if so["kind"] == "collimated":
-            extra = f", {so['aperture']} {' x '.join(_len(v) for v in so['size_m'] if v)}"
+            shape = "line" if s["dimension"] == 2 else so["aperture"]
+            extra = f", {shape} {' x '.join(_len(v) for v in so['size_m'] if v) if shape != 'circle' else _len(so['size_m'][0])}"
         else:
             extra = f", half angle {units.format_angle(so['half_angle_rad'])}"
         inside = f", inside {so['inside_solid']}" if so["inside_solid"] else ""
