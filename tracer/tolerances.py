@@ -116,3 +116,11 @@ __all__ += ["AXIS_PARALLEL_SIN"]
 BUDGET_ROUNDOFF = 1e-13
 
 __all__ += ["BUDGET_ROUNDOFF"]
+
+# --- sweeps and tolerancing (tracer.sweep) ------------------------------------------------
+
+#: A tolerance-run result whose spread over the trials is below this fraction of its
+#: mean magnitude is constant to round-off; no sensitivity ranking is made for it [1].
+SENSITIVITY_MIN_SPREAD = 1e-9
+
+__all__ += ["SENSITIVITY_MIN_SPREAD"]
