@@ -256,3 +256,13 @@ def test_mesh_problems(tmp_path):
     scene_file.write_text(tomli_w.dumps(doc))
     scene = load(scene_file)
     assert len(scene.solids["m"].geometry.face_names) == 6
+
+
+def test_design_path_suffixes_and_detector():
+    doc = base()
+    doc["trace"] = {"sequence": ["lower.leg_a", "lower.hypotenuse:R", "lower.leg_b:T", "screen"]}
+    assert problems(doc) == []
+    doc["trace"]["sequence"][1] = "lower.hypotenuse:X"
+    assert find(problems(doc), "trace.sequence[1]", 'suffix ":T"')
+    doc["trace"]["sequence"] = ["lower.leg_a", "scren"]
+    assert find(problems(doc), "trace.sequence[1]", 'did you mean "screen"?')

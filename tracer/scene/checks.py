@@ -29,13 +29,25 @@ def check_scene(build: Build, doc, settings, sources, gaps, header, solid_tables
 
 
 def _check_sequence(build: Build, settings) -> None:
+    """``trace.sequence``: ``"solid.face"`` entries, each optionally suffixed ``:T`` or ``:R``
+    (force the transmitted or reflected child), optionally ending with a detector name."""
     if not settings.sequence:
         return
+    last = len(settings.sequence) - 1
     for i, ref in enumerate(settings.sequence):
         key = f"trace.sequence[{i}]"
-        parts = split_face_ref(ref)
+        if i == last and "." not in ref and ref in build.detector_keys:
+            continue
+        face_ref, sep, suffix = ref.partition(":")
+        if sep and suffix not in ("T", "R"):
+            build.problems.error(key, f'expected the suffix ":T" (transmitted) or ":R" (reflected), '
+                                      f'got "{ref}"')
+            continue
+        parts = split_face_ref(face_ref)
         if parts is None:
-            build.problems.error(key, f'expected "solid.face", got "{ref}"')
+            hint = (" or a detector name (last entry only)" if i == last else "")
+            build.problems.error(key, f'expected "solid.face"{hint}, got "{ref}"'
+                                 + (did_you_mean(ref, build.detector_keys) if i == last and build.detector_keys else ""))
             continue
         solid, face = parts
         if solid not in build.solid_keys:
