@@ -45,11 +45,27 @@ def _plot():
     return plot
 
 
+#: Where each plotting function lives in :mod:`tracer.plot` (also taken from the
+#: package namespace when it exports it).
+_SUBMODULES = ("diagram2d", "diagram3d", "maps", "budget", "figures")
+
+
 def _find(plot, *names):
+    import importlib
+
     for n in names:
         fn = getattr(plot, n, None)
         if callable(fn):
             return fn
+    for sub in _SUBMODULES:
+        try:
+            mod = importlib.import_module(f"{plot.__name__}.{sub}")
+        except ImportError:
+            continue
+        for n in names:
+            fn = getattr(mod, n, None)
+            if callable(fn):
+                return fn
     return None
 
 
@@ -63,13 +79,6 @@ def close(fig) -> None:
         pass
 
 
-def _call(fn, *args, **kw):
-    try:
-        return fn(*args, **kw)
-    except TypeError:
-        return None
-
-
 def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = None) -> list[Figure]:
     """Figures of a trace, of the requested ``kinds`` (see the module docstring).
 
@@ -78,17 +87,24 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
     result : tracer.engine.Result
         Traced with ``segments=N`` for ray diagrams to show rays.
     analysis : tracer.analysis.RunAnalysis, optional
-        Gives the budget figure its budget.
+        Gives the budget figure its budget (computed here when not given).
     kinds : tuple of str
     skipped : list, optional
-        Receives the kinds that could not be drawn, with the reason.
+        Receives ``(kind, reason)`` for the kinds that could not be drawn.
     """
+    from ..errors import TracerError
+
+    bad = [k for k in kinds if k not in KINDS]
+    if bad:
+        raise TracerError(f"unknown figure kind {bad[0]!r}; kinds: {', '.join(KINDS)}")
     plot = _plot()
     skipped = skipped if skipped is not None else []
     if plot is None:
         skipped.extend((k, "the plotting module is not available") for k in kinds)
         return []
     scene = result.scene
+    planes = list(result.compiled.detector_names)
+    fars = [d.name for d in getattr(result.compiled, "far_fields", [])]
     out: list[Figure] = []
 
     def missing(kind):
@@ -100,52 +116,55 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
             if fn is None:
                 missing(kind)
                 continue
-            out.append(Figure("rays", "Section with the traced rays (opacity and width fall with power)",
-                              fn(scene, result)))
+            out.append(Figure("rays", "Section with the traced rays (opacity and width fall with "
+                                      "power, one decade a step)", fn(scene, result)))
         elif kind == "rays3d":
-            fn = _find(plot, "draw_3d")
+            fn = _find(plot, "draw_3d_views")
             if fn is None:
                 missing(kind)
                 continue
-            out.append(Figure("rays3d", "3D view with the traced rays", fn(scene, result)))
+            out.append(Figure("rays3d", "Top, front, side and isometric views with the traced rays",
+                              fn(scene, result)))
         elif kind == "budget":
             fn = _find(plot, "budget_figure", "draw_budget", "plot_budget")
             if fn is None:
                 missing(kind)
                 continue
-            budget = analysis.budget if analysis is not None else None
-            fig = _call(fn, budget) if budget is not None else None
-            if fig is None:
-                fig = _call(fn, result)
-            if fig is None:
-                missing(kind)
-                continue
-            out.append(Figure("budget", "Power budget: where the source power goes", fig))
-        elif kind in ("irradiance", "stokes"):
-            fn = _find(plot, f"{kind}_map", f"draw_{kind}", f"plot_{kind}")
-            if fn is None:
-                missing(kind)
-                continue
-            for det in result.compiled.detector_names:
-                fig = _call(fn, result, det)
-                if fig is not None:
-                    title = ("Irradiance" if kind == "irradiance" else "Stokes parameters")
-                    out.append(Figure(f"{kind}-{det}", f"{title} on detector {det}", fig))
-        elif kind == "far_field":
-            if not getattr(result.compiled, "far_fields", None):
-                continue
-            fn = _find(plot, "far_field_map", "draw_far_field", "plot_far_field")
-            if fn is None:
-                missing(kind)
-                continue
-            for d in result.compiled.far_fields:
-                fig = _call(fn, result, d.name)
-                if fig is not None:
-                    out.append(Figure(f"far-field-{d.name}", f"Far-field intensity ({d.name})", fig))
-        else:
-            from ..errors import TracerError
+            if analysis is None:
+                from ..analysis import power_budget
 
-            raise TracerError(f"unknown figure kind {kind!r}; kinds: {', '.join(KINDS)}")
+                budget = power_budget(result)
+            else:
+                budget = analysis.budget
+            out.append(Figure("budget", "Power budget: where the source power goes", fn(budget)))
+        elif kind == "irradiance":
+            fn = _find(plot, "irradiance_map")
+            if fn is None:
+                missing(kind)
+                continue
+            for det in planes:
+                if result.detector_power(det) > 0:
+                    out.append(Figure(f"irradiance-{det}", f"Irradiance on detector {det}",
+                                      fn(result, det)))
+        elif kind == "stokes":
+            fn = _find(plot, "stokes_maps")
+            if fn is None:
+                missing(kind)
+                continue
+            for det in planes:
+                if result.detector_power(det) > 0:
+                    out.append(Figure(f"stokes-{det}", f"Normalised Stokes parameters on detector {det}",
+                                      fn(result, det)))
+        elif kind == "far_field":
+            if not fars:
+                continue
+            fn = _find(plot, "far_field_map")
+            if fn is None:
+                missing(kind)
+                continue
+            for name in fars:
+                out.append(Figure(f"far-field-{name}", f"Radiant intensity by direction ({name})",
+                                  fn(result, name)))
     return out
 
 

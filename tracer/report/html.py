@@ -40,7 +40,8 @@ p { margin: 6px 0; }
 table { border-collapse: collapse; margin: 6px 0 12px; font-size: 0.93rem; }
 th, td { padding: 4px 10px; border-bottom: 1px solid var(--line); vertical-align: top; }
 th { text-align: left; font-weight: 620; background: var(--soft); white-space: nowrap; }
-td.num, th.num { text-align: right; font-variant-numeric: tabular-nums;
+th.num { text-align: right; }
+td.num { text-align: right; font-variant-numeric: tabular-nums;
                  font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 0.86rem;
                  white-space: nowrap; }
 td.path { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 0.84rem; }
