@@ -27,6 +27,8 @@ COMMAND_MODULES = (
     "tracer.commands.ghosts",
     "tracer.commands.draw",
     "tracer.commands.report",
+    "tracer.commands.sweep",
+    "tracer.commands.tolerance",
 )
 
 EXIT_OK, EXIT_REQUIREMENT_FAILED, EXIT_INPUT_ERROR = 0, 1, 2

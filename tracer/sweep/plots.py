@@ -92,7 +92,12 @@ def plot_histogram(values, *, ax=None, bins: int = 30, label: str = "", limit=No
     ax = _axes(ax)
     v = np.asarray(values, dtype=float)
     v = v[np.isfinite(v)]
-    ax.hist(v, bins=bins, color="tab:blue", alpha=0.8)
+    span = float(np.ptp(v)) if len(v) else 0.0
+    rng = None
+    if len(v) and span <= 1e-12 * max(float(np.max(np.abs(v))), 1e-300):
+        half = max(abs(float(v[0])) * 1e-6, 1e-12)  # constant: one visible bar
+        rng, bins = (float(v[0]) - half, float(v[0]) + half), 1
+    ax.hist(v, bins=bins, range=rng, color="tab:blue", alpha=0.8)
     if limit is not None:
         ax.axvline(limit, color="tab:red", ls="--", label="limit")
     if nominal is not None:
@@ -157,6 +162,11 @@ def tolerance_figures(result, out_dir) -> list[Path]:
         vals = result.column(col)
         if not np.isfinite(vals).any():
             continue
+        from .. import tolerances as tol
+
+        fin = vals[np.isfinite(vals)]
+        if float(np.std(fin)) <= tol.SENSITIVITY_MIN_SPREAD * float(np.mean(np.abs(fin))):
+            continue  # constant to round-off: nothing to show
         ax = plot_histogram(vals, label=col, limit=result.limits.get(col),
                             nominal=result.nominal.get(col))
         files.append(_save(ax, out / f"hist-{_safe(col)}.png"))
