@@ -205,3 +205,60 @@ def test_loads_accepts_text():
     import tomli_w
     s = loads(tomli_w.dumps(base()), path="mem.toml")
     assert s.path == "mem.toml" and s.title == "base"
+
+
+def _three_d(doc):
+    doc["dimension"] = 3
+    doc["sources"]["beam"] = {"kind": "collimated", "position": [10, -15, 0], "direction": [0, 1, 0],
+                              "diameter": "4 mm", "power": "1 mW"}
+    doc["detectors"]["screen"] = {"position": [-15, 10, 0], "normal": [1, 0, 0], "width": 16, "height": 16}
+    return doc
+
+
+def test_source_kinds_in_3d():
+    doc = _three_d(base())
+    doc["sources"]["rect"] = {"kind": "collimated", "position": [10, -15, 0], "direction": [0, 1, 0],
+                              "aperture": "rectangle", "width": "4 mm", "height": "2 mm", "power": "1 mW",
+                              "x_axis": [0, 0, 1]}
+    doc["sources"]["lamp"] = {"kind": "point", "position": [10, -15, 0], "power": "1 mW"}
+    doc["sources"]["cone"] = {"kind": "cone", "position": [10, -15, 0], "direction": [0, 1, 0],
+                              "half_angle": "5 deg", "power": "1 mW", "sampling": "random", "rays": 50}
+    doc["sources"]["fan"] = {"kind": "fan", "position": [10, -15, 0], "direction": [0, 1, 0],
+                             "half_angle": "10 deg", "power": "1 mW",
+                             "spectrum": {"wavelengths": ["500 nm", "600 nm"], "weights": [1, 3]}}
+    s = from_dict(doc)
+    assert s.sources["beam"].aperture == "circle" and s.sources["beam"].size == pytest.approx((0.004, 0.004))
+    assert s.sources["rect"].size == pytest.approx((0.004, 0.002))
+    assert s.sources["rect"].x_axis.tolist() == pytest.approx([0, 0, 1])
+    assert s.sources["lamp"].kind == "point" and s.sources["lamp"].half_angle == pytest.approx(math.pi)
+    assert s.sources["cone"].kind == "point" and s.sources["cone"].half_angle == pytest.approx(math.radians(5))
+    assert s.sources["cone"].sampling == "random"
+    assert s.sources["fan"].kind == "fan"
+    assert s.sources["fan"].spectrum.weights.tolist() == pytest.approx([0.25, 0.75])
+    assert s.sources["beam"].spectrum is s.spectrum
+
+
+def test_x_axis_must_be_perpendicular():
+    from scene_helpers import find, problems
+    doc = _three_d(base())
+    doc["sources"]["beam"]["x_axis"] = [0, 1, 0]
+    assert find(problems(doc), "sources.beam.x_axis", "perpendicular")
+
+
+def test_polygon_and_polyhedron_constructions():
+    doc = _three_d(base())
+    doc["solids"] = {
+        "slab": {"material": "fused-silica", "kind": "polygon", "vertices": [[0, 0], [30, 0], [30, 10], [0, 10]],
+                 "height": 5, "side_names": ["south", "exit", "north", "entrance"],
+                 "position": [0, 30, 0], "faces": {"exit": {"coating": "absorber"}}},
+        "tetra": {"material": "fused-silica", "kind": "polyhedron",
+                  "vertices": [[0, 0, 0], [10, 0, 0], [0, 10, 0], [0, 0, 10]], "position": [-40, 0, 0]},
+    }
+    del doc["requirements"]["leak"]
+    s = from_dict(doc)
+    slab = s.solids["slab"]
+    assert slab.geometry.face_names == ("south", "exit", "north", "entrance", "top", "bottom")
+    assert slab.faces["exit"].kind == "absorber" and slab.faces["south"].kind == "uncoated"
+    assert slab.geometry.volume == pytest.approx(30e-3 * 10e-3 * 5e-3)
+    assert s.solids["tetra"].geometry.volume == pytest.approx(1e-6 / 6)
+    assert len(s.solids["tetra"].geometry.face_names) == 4
