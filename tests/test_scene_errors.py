@@ -266,3 +266,11 @@ def test_design_path_suffixes_and_detector():
     assert find(problems(doc), "trace.sequence[1]", 'suffix ":T"')
     doc["trace"]["sequence"] = ["lower.leg_a", "scren"]
     assert find(problems(doc), "trace.sequence[1]", 'did you mean "screen"?')
+
+
+def test_missing_format_does_not_hide_other_problems():
+    doc = base()
+    del doc["format"]
+    doc["titel"] = "x"
+    keys = {p.key for p in problems(doc)}
+    assert {"", "titel"} <= keys

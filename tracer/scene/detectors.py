@@ -17,7 +17,7 @@ from .context import Build, split_face_ref
 from .model import DetectorSpec
 from .problems import did_you_mean
 from .reader import Table
-from .sources import check_in_plane, default_x_axis, frame_axis
+from .sources import check_in_plane, frame_axis
 
 __all__ = ["read_detector", "DETECTOR_KINDS", "face_frame"]
 

@@ -110,8 +110,7 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
         document = migrate(document, version)
         doc = Table(document, "", problems)
         doc.integer("format")
-    if version is None:
-        problems.raise_if_any()
+    # without a (valid) format the rest is still checked as the current format
 
     default_title = Path(file).stem if file else "untitled"
     header = settings.read_header(doc, default_title=default_title)
@@ -125,7 +124,7 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
     finding = settings.read_gap_finding(doc.table("gap_finding"))
 
     # -- materials, ambient, coatings
-    from .media import check_range, read_material, resolve_material
+    from .media import read_material, resolve_material
     material_tables = doc.tables("materials")
     build.material_keys = set(material_tables)
     for name, t in material_tables.items():

@@ -14,7 +14,6 @@ of a catalog material). Common keys: ``valid_range = ["400 nm", "700 nm"]`` and
 
 from __future__ import annotations
 
-import math
 
 from ..errors import TracerError
 from .context import Build
