@@ -186,7 +186,7 @@ def wavelength_to_rgb(wavelength) -> np.ndarray:
         sRGB (gamma-encoded) colour.
 
     >>> wavelength_to_rgb(1550e-9).round(2).tolist()   # infrared: false colour
-    [0.48, 0.1, 0.04]
+    [0.48, 0.08, 0.03]
     """
     lam = np.asarray(wavelength, dtype=float)
     vis = _visible(np.clip(lam, *VISIBLE))
