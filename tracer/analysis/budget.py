@@ -118,8 +118,9 @@ class PowerBudget:
         text += (f"\n  closure residual {fmt_sci(self.residual_w)} W "
                  f"({fmt_sci(self.relative_residual)} of the source power)")
         if self.far_field:
-            text += (f"\n  far-field detector{'s' if len(self.far_field) > 1 else ''} "
-                     f"{', '.join(self.far_field)} collect the escaped power")
+            many = len(self.far_field) > 1
+            text += (f"\n  far-field detector{'s' if many else ''} {', '.join(self.far_field)} "
+                     f"collect{'' if many else 's'} the escaped power")
         return text
 
 

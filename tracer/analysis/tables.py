@@ -77,20 +77,20 @@ def fmt_sci(x: float | None, digits: int = 3) -> str:
 
 
 def fmt_fraction(x: float | None, digits: int = 3) -> str:
-    """A fraction as a percentage for large values, scientific for small ones.
+    """A fraction as a percentage: fixed decimals from 0.1 %, scientific below.
 
-    >>> fmt_fraction(0.92), fmt_fraction(1.5e-6), fmt_fraction(None)
-    ('92.0 %', '1.500e-06', '-')
+    >>> fmt_fraction(0.92), fmt_fraction(1.5e-6), fmt_fraction(None), fmt_fraction(0.0)
+    ('92.0 %', '1.500e-04 %', '-', '0 %')
     """
     if x is None:
         return "-"
     if x == 0:
-        return "0"
+        return "0 %"
     if not math.isfinite(x):
         return str(x)
     if abs(x) >= 1e-3:
         return f"{100 * x:.{max(digits - 2, 1)}f} %"
-    return f"{x:.{digits}e}"
+    return f"{100 * x:.{digits}e} %"
 
 
 def fmt_length_mm(x: float | None, digits: int = 3) -> str:
