@@ -6,7 +6,9 @@
 ... except SceneError as exc:
 ...     for problem in exc.problems:
 ...         print(problem)
-x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, coatings, detectors, dimension, format, gap_finding, gaps, length_unit, materials, requirements, seed, solids, ...)
+x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, coatings, detectors,
+  dimension, format, gap_finding, gaps, length_unit, materials, requirements, seed, solids, sources,
+  spectrum, title, trace)
 
 The format is described key by key in ``docs/scene-format.md``.
 """

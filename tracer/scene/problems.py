@@ -101,7 +101,7 @@ class Problems:
         return bool(self.errors)
 
 
-def did_you_mean(word: str, known, *, show_known: int = 12) -> str:
+def did_you_mean(word: str, known, *, show_known: int = 24) -> str:
     """Suffix for an "unknown name" message: a close match and the known names.
 
     >>> did_you_mean("ar-coat", ["ar_coat", "mirror"])
