@@ -11,6 +11,8 @@ column                         unit  meaning
 ``fraction.DET``               1     ... over the total source power
 ``T.STATE.DET``                1     detector power over source power when every source
                                      launches the linear state ``STATE`` (e.g. s and p)
+``Tdesign.STATE.DET``          1     the same for the design path alone
+``design_power.DET``           W     power of the design path
 ``ghost_power.DET``            W     every path but the design path
 ``ghost_fraction.DET``         1     ghost power over design-path power
 ``top_ghost_power.DET``        W     the strongest ghost path
@@ -66,10 +68,11 @@ def state_coherency(angle: float) -> np.ndarray:
     return np.outer(v, v.conj())
 
 
-def state_power(result, detector: str, coherency) -> float:
+def state_power(result, detector: str, coherency, *, node: int | None = None) -> float:
     """Power [W] on plane detector ``detector`` had every source launched ``coherency``.
 
-    Sums ``tr(M J M^H)`` over the recorded hits (tree mode; see the module docstring).
+    Sums ``tr(M J M^H)`` over the recorded hits (tree mode; see the module docstring),
+    or over the hits of one path-tree ``node`` (one path).
 
     Raises
     ------
@@ -86,7 +89,7 @@ def state_power(result, detector: str, coherency) -> float:
         raise TracerError(f"detector {detector!r}: only {len(h['power'])} of {expected} hits were "
                           "kept; raise the max_hits trace setting")
     J = np.asarray(coherency, dtype=complex)
-    M = h["jones"]
+    M = h["jones"] if node is None else h["jones"][h["node"] == node]
     return float(np.einsum("nij,jk,nlk->", M, J, M.conj()).real)
 
 
@@ -133,21 +136,34 @@ def collect(result, *, groups=("power", "polarization", "ghosts", "leakage", "re
             p = float(result.detector_power(d))
             row[f"power.{d}"] = p
             row[f"fraction.{d}"] = p / src if src > 0 else 0.0
+    tables = {}
+    if groups & {"ghosts", "requirements", "polarization"}:
+        tables = {d: ghost_table(result, d) for d in planes}
     if "polarization" in groups and states:
+        nodes = {}
+        if retraced is None:
+            for d in planes:
+                des = tables[d].design
+                nodes[d] = next((p["node"] for p in result.paths(d)
+                                 if des is not None and p["signature"] == des.signature), None)
         for name, angle in states.items():
             for d in planes:
                 if retraced is not None:
                     r = retraced[name]
                     s = float(r.source_power_w)
                     row[f"T.{name}.{d}"] = float(r.detector_power(d)) / s if s > 0 else 0.0
+                    des = ghost_table(r, d).design
+                    row[f"Tdesign.{name}.{d}"] = (des.power_w / s if des is not None and s > 0
+                                                  else 0.0)
                 else:
-                    p = state_power(result, d, state_coherency(angle))
+                    J = state_coherency(angle)
+                    p = state_power(result, d, J)
                     row[f"T.{name}.{d}"] = p / src if src > 0 else 0.0
-    tables = {}
-    if "ghosts" in groups or "requirements" in groups:
-        tables = {d: ghost_table(result, d) for d in planes}
+                    pd = state_power(result, d, J, node=nodes[d]) if nodes[d] is not None else 0.0
+                    row[f"Tdesign.{name}.{d}"] = pd / src if src > 0 else 0.0
     if "ghosts" in groups:
         for d, t in tables.items():
+            row[f"design_power.{d}"] = float(t.design_power_w)
             row[f"ghost_power.{d}"] = float(t.ghost_power_w)
             gf = t.ghost_fraction
             row[f"ghost_fraction.{d}"] = float(gf) if math.isfinite(gf) else None
