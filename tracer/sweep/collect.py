@@ -37,6 +37,11 @@ at angle ``a`` from the source's ``x_axis``. This holds in tree mode; in Monte C
 mode the fields are rescaled to the carried power, so :func:`collect` is given results
 of extra traces with every source set to each state instead (``retraced``).
 
+The power threshold prunes children by the power of the state actually traced (the
+source's own polarisation), so the ``T`` of another state misses at most the pruned
+power -- below ``power_threshold`` of the source power per pruned child; lower the
+threshold where that matters.
+
 Which angle is s and which is p depends on the geometry: the defaults
 (:data:`DEFAULT_STATES`, s = 90 deg, p = 0 deg) hold when the planes of incidence
 contain the source's ``x_axis`` -- the case of an assembly laid out in the x-y plane
