@@ -3,9 +3,10 @@
 Writes into ``--out DIR`` (default: the current folder) one file per figure:
 ``rays`` (section of the solids with the traced rays, opacity and width falling with
 power), ``rays3d`` (3D view), ``budget`` (where the power goes), ``irradiance`` and
-``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction). Choose
-with ``--kind`` (repeatable; default ``rays``, ``all`` for every kind) and the formats
-with ``--format`` (png, svg).
+``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction), and
+``glb`` (the solids, detectors and rays as a binary glTF file for 3D viewers). Choose
+with ``--kind`` (repeatable; default ``rays``, ``all`` for every figure kind and the GLB
+file) and the figure formats with ``--format`` (png, svg).
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ EXAMPLES = """examples:
   tracer draw scenes/cube_beamsplitter_camera.toml --kind rays --kind irradiance --out figures
   tracer draw scenes/porro_erecting_pair.toml --kind all --format svg --format png --out figures
   tracer draw scenes/plate_ghost.toml --rays 50 --threshold 1e-8
+  tracer draw scenes/corner_cube_retroreflector.toml --kind glb --out figures
 
 exit codes: 0 success, 2 input error (or no plotting available)
 """
@@ -29,8 +31,8 @@ def add_arguments(parser) -> None:
     from ..report.figures import KINDS
 
     c.add_scene(parser)
-    parser.add_argument("--kind", action="append", choices=KINDS + ("all",), metavar="KIND",
-                        help=f"figure kind: {', '.join(KINDS)} or all (repeatable; default rays)")
+    parser.add_argument("--kind", action="append", choices=KINDS + ("glb", "all"), metavar="KIND",
+                        help=f"figure kind: {', '.join(KINDS)}, glb or all (repeatable; default rays)")
     parser.add_argument("--format", action="append", choices=("png", "svg"), metavar="FMT",
                         help="file format: png or svg (repeatable; default png)")
     parser.add_argument("--segments", type=int, default=4000, metavar="N",
@@ -48,7 +50,9 @@ def run(args) -> int:
     if c.plot_module() is None:
         raise TracerError("drawing needs matplotlib: pip install matplotlib")
     kinds = args.kind or ["rays"]
-    kinds = list(KINDS) if "all" in kinds else list(dict.fromkeys(kinds))
+    kinds = list(KINDS) + ["glb"] if "all" in kinds else list(dict.fromkeys(kinds))
+    glb = "glb" in kinds
+    kinds = [k for k in kinds if k != "glb"]
     formats = tuple(dict.fromkeys(args.format or ["png"]))
     scene = c.load_scene(args.scene)
     out = c.out_dir(args.out)
@@ -58,6 +62,13 @@ def run(args) -> int:
     stem = c.scene_stem(scene)
     files = save_figures(result, analysis, out, kinds=kinds, formats=formats, skipped=skipped,
                          prefix=f"{stem}-")
+    if glb:
+        try:
+            from ..plot.export3d import export_glb
+        except ImportError as exc:
+            skipped.append(("glb", f"3D export not available ({exc})"))
+        else:
+            files.append(export_glb(scene, result, out / f"{stem}.glb"))
     if not args.quiet:
         for f in files:
             print(f"wrote {f}")

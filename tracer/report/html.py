@@ -41,9 +41,7 @@ table { border-collapse: collapse; margin: 6px 0 12px; font-size: 0.93rem; }
 th, td { padding: 4px 10px; border-bottom: 1px solid var(--line); vertical-align: top; }
 th { text-align: left; font-weight: 620; background: var(--soft); white-space: nowrap; }
 th.num { text-align: right; }
-td.num { text-align: right; font-variant-numeric: tabular-nums;
-                 font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 0.86rem;
-                 white-space: nowrap; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 td.path { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 0.84rem; }
 tr.design td { background: #eef6ff; }
 tr.total td { font-weight: 650; border-top: 2px solid var(--line); }
@@ -100,12 +98,22 @@ def _vec(v) -> str:
     return "(" + ", ".join(f"{x:.4g}" for x in v) + ")"
 
 
+def _wavelength(w: float) -> str:
+    """Vacuum wavelength, with the frequency for radio and microwave lines (above 100 µm)."""
+    from .. import units
+
+    text = units.format_wavelength(w)
+    if w > 100e-6:
+        text += f" ({units.format_frequency(299_792_458.0 / w, digits=4)})"
+    return text
+
+
 def _scene_section(summary: dict) -> str:
     from .. import units
 
     parts = ["<h2>Scene</h2>"]
     spec = summary.get("spectrum") or {}
-    wl = ", ".join(units.format_wavelength(w) for w in spec.get("wavelengths_m", []))
+    wl = ", ".join(_wavelength(w) for w in spec.get("wavelengths_m", []))
     tr = summary.get("trace") or {}
     parts.append('<dl class="kv">')
     for k, v in (("file", summary.get("file") or "-"),
@@ -138,7 +146,7 @@ def _scene_section(summary: dict) -> str:
         rows = []
         for name, s in sources.items():
             pol = (s.get("polarization") or {}).get("label", "")
-            sw = ", ".join(units.format_wavelength(w) for w in (s.get("spectrum") or {}).get("wavelengths_m", []))
+            sw = ", ".join(_wavelength(w) for w in (s.get("spectrum") or {}).get("wavelengths_m", []))
             rows.append([name, s.get("kind", ""), units.format_power(s.get("power_W", 0.0)),
                          str(s.get("rays", "")), sw, pol])
         parts.append("<h3>Sources</h3>" + _table(["source", "kind", "power", "rays", "wavelengths",
