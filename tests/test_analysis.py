@@ -274,3 +274,35 @@ def test_run_summary_is_strict_json_with_documented_keys():
     (r,) = back["requirements"]
     assert set(r) >= {"name", "passed", "value", "limit"} and r["passed"] is True
     assert back["passed"] is True
+
+
+def test_far_field_table_ranks_escaping_paths():
+    # without the back detector, the plate's reflected light (2R/(1 + R) of the source,
+    # Hecht as above) escapes and the far-field detector sees it, path by path
+    from engine_factory import far_field
+
+    n = 1.5
+    R = fresnel_normal_R(n)
+    sc = plate_scene(n=n, rays=1)
+    sc = dataclasses.replace(sc, detectors={"camera": sc.detectors["camera"], "sky": far_field("sky")})
+    res = trace(sc)
+    t = ghost_table(res, "sky")
+    assert t.kind == "far_field" and t.design_rule == "strongest"
+    assert t.power_w == pytest.approx(2 * R / (1 + R), rel=1e-8)
+    assert sum(r.power_w for r in t.rows) == pytest.approx(t.power_w, rel=1e-9)
+    assert t.rows[0].label == "plate(entrance:R)" and t.rows[0].fraction == pytest.approx(R, rel=1e-12)
+    assert t.rows[0].centroid is None
+    assert "x [mm]" not in t.format_text()
+
+
+def test_labels_name_the_source_when_there_are_several():
+    sc = plate_scene(n=1.5, rays=1)
+    src = sc.sources["src"]
+    other = dataclasses.replace(src, name="aux", position=np.array([1e-3, 0, -0.01]))
+    sc = dataclasses.replace(sc, sources={"src": src, "aux": other})
+    t = ghost_table(trace(sc), "camera")
+    labels = {r.label for r in t.rows}
+    assert "src: plate(entrance:T exit:T)" in labels and "aux: plate(entrance:T exit:T)" in labels
+    # two equal sources: the total source power is 2 W and each direct path carries T^2 / 2
+    R = fresnel_normal_R(1.5)
+    assert t.rows[0].fraction == pytest.approx((1 - R) ** 2 / 2, rel=1e-9)

@@ -15,7 +15,7 @@ from . import _common as c
 
 NAME = "draw"
 HELP = "draw ray diagrams, detector maps and the power budget as PNG/SVG"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer draw scenes/tir_prism_pair.toml
   tracer draw scenes/cube_beamsplitter_camera.toml --kind rays --kind irradiance --out figures

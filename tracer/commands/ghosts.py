@@ -20,7 +20,7 @@ from . import _common as c
 
 NAME = "ghosts"
 HELP = "rank the paths reaching each detector by power, design path marked"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer ghosts scenes/plate_ghost.toml
   tracer ghosts scenes/cube_beamsplitter_camera.toml --detector camera --top 20

@@ -24,7 +24,7 @@ from . import _common as c
 
 NAME = "path"
 HELP = "follow the design path (a face sequence) and report throughput, deviation, image, polarisation"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer path scenes/tir_prism_pair.toml
   tracer path scenes/penta_prism_laser.toml --json penta-path.json

@@ -16,7 +16,7 @@ from . import _common as c
 
 NAME = "report"
 HELP = "write a self-contained HTML report per scene (budget, ghosts, figures, verdicts)"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer report scenes/tir_prism_pair.toml
   tracer report scenes/*.toml --out reports

@@ -20,7 +20,7 @@ from . import _common as c
 
 NAME = "run"
 HELP = "trace a scene, print the power budget, ghost tables and requirement verdicts"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer run scenes/plate_ghost.toml
   tracer run scenes/tir_prism_pair.toml --rays 200 --out results/tir
