@@ -55,8 +55,14 @@ def test_report_holds_tables_caution_and_settings():
     assert re.search(r"tracer \d+\.\d+", page)
 
 
-def test_report_is_self_contained():
-    rep = build_report(load(TIR), rays=5, figures=_has_plot())
+@pytest.fixture(scope="module")
+def tir_report():
+    """One report of the TIR pair with figures (when plotting is available), shared."""
+    return build_report(load(TIR), rays=5, figures=_has_plot())
+
+
+def test_report_is_self_contained(tir_report):
+    rep = tir_report
     page = rep.html
     # no external resources: no remote or relative src/href, no external scripts or styles
     assert not re.search(r'(src|href)\s*=\s*"(?!data:|#)', page)
@@ -99,10 +105,10 @@ def _render(page_path: Path, tmp_path: Path, *extra) -> subprocess.CompletedProc
 
 
 @pytest.mark.skipif(_chromium() is None, reason="no Chromium installed")
-def test_report_figures_render_in_headless_chromium(tmp_path):
+def test_report_figures_render_in_headless_chromium(tmp_path, tir_report):
     scene = load(TIR)
     if _has_plot():
-        rep = build_report(scene, rays=5)
+        rep = tir_report
         assert rep.figures, rep.skipped
         page = rep.html
     else:  # the page machinery alone, with a real PNG
