@@ -216,3 +216,24 @@ def test_draw_writes_png(tmp_path, capsys):
     png = tmp_path / "plate_ghost-rays.png"
     assert png.exists() and png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert math.isfinite(png.stat().st_size)
+
+
+@pytest.mark.skipif(not SCENES, reason="no demo scenes")
+@pytest.mark.parametrize("scene", SCENES, ids=[p.stem for p in SCENES])
+def test_ghosts_path_report_on_every_demo_scene(scene, tmp_path, capsys):
+    from tracer.scene import load
+
+    js = tmp_path / "g.json"
+    code, out, _ = run_cli(capsys, "ghosts", scene, "--rays", 3, "--json", js, "--top", 3)
+    assert code == 0 and "detector" in out
+    data = json.loads(js.read_text(encoding="utf-8"))
+    for d in data["detectors"].values():
+        # paths add up to the detector's power, and exactly one is the design path when lit
+        assert sum(p["power_w"] for p in d["paths"]) == pytest.approx(d["power_w"], rel=1e-9, abs=1e-300)
+        assert sum(p["design"] for p in d["paths"]) == (1 if d["paths"] else 0)
+    if load(scene).settings.sequence:
+        code, out, _ = run_cli(capsys, "path", scene)
+        assert code in (0, 1) and "design path:" in out
+    code, out, _ = run_cli(capsys, "report", scene, "--rays", 3, "--no-figures", "--out", tmp_path)
+    assert code in (0, 1)
+    assert (tmp_path / f"{scene.stem}.html").exists()
