@@ -239,11 +239,11 @@ def _split_face(name: str) -> tuple[str, str]:
 
 
 def _fold(tokens: list[str]) -> list[str]:
-    """Fold consecutive repeats of blocks of up to 4 tokens into ``(block)×n``."""
+    """Fold consecutive repeats of blocks of up to 8 tokens into ``(block)×n``."""
     out, i, n = [], 0, len(tokens)
     while i < n:
         best_len, best_count = 1, 1
-        for length in range(1, min(4, (n - i) // 2) + 1):
+        for length in range(1, min(8, (n - i) // 2) + 1):
             block = tokens[i : i + length]
             count = 1
             while tokens[i + count * length : i + (count + 1) * length] == block:
