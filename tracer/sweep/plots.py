@@ -71,9 +71,17 @@ def plot_sweep(result, x: str, columns, *, ax=None, logy: bool = False, labels=N
 
 
 def plot_transmission_sp(result, x: str, detector: str, *, ax=None, logy: bool = False):
-    """Transmission for the s and p input states on ``detector`` against axis ``x``."""
+    """Transmission for the s and p input states on ``detector`` against axis ``x``
+    (all paths, and the design path dashed where the table has it)."""
     ax = plot_sweep(result, x, [f"T.s.{detector}", f"T.p.{detector}"], ax=ax, logy=logy,
-                    labels=["s", "p"])
+                    labels=["s, all paths", "p, all paths"])
+    if f"Tdesign.s.{detector}" in result.columns:
+        xs = result.axis_numbers(x)
+        order = np.argsort(xs, kind="stable")
+        for st, color in (("s", "C0"), ("p", "C1")):
+            ys = result.column(f"Tdesign.{st}.{detector}").astype(float)
+            ax.plot(xs[order], ys[order], ls="--", color=color, label=f"{st}, design path")
+        ax.legend(fontsize="small")
     ax.set_ylabel(f"transmission to {detector} [1]")
     return ax
 
