@@ -244,14 +244,6 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
                     xy = np.asarray(hull.exterior.coords)[:-1]
                     ax.add_patch(Polygon(xy / scale, closed=True, facecolor="none",
                                          edgecolor=darker(col), lw=0.8, ls=(0, (4, 3)), zorder=2))
-            if face_labels and sec.edges:
-                for p0, p1, face, n2 in sec.edges:
-                    _face_label(ax, p0 / scale, p1 / scale, n2, face)
-        if solid_labels:
-            for name, c, loop in solid_xy:
-                ax.text(c[0] / scale, c[1] / scale, name, ha="center", va="center", fontsize=7.5,
-                        color=_style.INK, zorder=12, style="italic",
-                        bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.6))
         centre = (lo + hi) / 2
         if gap_labels:
             for g in scene.gaps.values():
@@ -274,6 +266,23 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
         ax.set_ylim((lo[1] - pad) / scale, (hi[1] + pad) / scale)
         ax.set_aspect("equal")
         ax.set_axis_off()
+        if face_labels or solid_labels:
+            ax.apply_aspect()
+            axes_pt = ax.get_position().width * fig.get_size_inches()[0] * 72
+            span = (ax.get_xlim()[1] - ax.get_xlim()[0]) * scale
+            placer = _LabelPlacer(rays, pl, width, [], metres_per_point=span / max(axes_pt, 1.0))
+            if solid_labels:
+                for name, c, loop in solid_xy:
+                    at = placer.place_inside(loop, c, name)
+                    ax.text(at[0] / scale, at[1] / scale, name, ha="center", va="center",
+                            fontsize=7.5, color=_style.INK, zorder=12, style="italic",
+                            bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.6))
+            if face_labels:
+                for name in scene.solids:
+                    for p0, p1, face, n2 in cuts[name].edges:
+                        spot = placer.place(p0, p1, n2, face)
+                        if spot is not None:
+                            _face_label(ax, spot[0] / scale, spot[1], face)
         if scale_bar:
             _style.add_scale_bar(ax, width, scale=scale, loc="lower left")
         hl_label = None
@@ -284,7 +293,7 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
             if hl_label and isinstance(highlight, str):
                 _caption(ax, "highlighted: " + _short_signature(highlight, 400), leg)
         if title:
-            ax.set_title(scene.title if title is True else str(title), loc="left")
+            ax.set_title(scene.title if title is True else str(title))
     return fig
 
 
@@ -312,14 +321,95 @@ def _upright(angle_deg):
     return a
 
 
-def _face_label(ax, p0, p1, n2, face):
-    mid = (p0 + p1) / 2
-    d = p1 - p0
-    ang = _upright(np.degrees(np.arctan2(d[1], d[0])))
-    off = -np.asarray(n2) * 8.0  # points, inwards
-    ax.annotate(face, xy=mid, xytext=off, textcoords="offset points", ha="center", va="center",
-                rotation=ang, rotation_mode="anchor", fontsize=6, color=_style.FAINT, zorder=11,
-                bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none", alpha=0.65))
+def _seg_distance(points, a, b):
+    """Distance of each of (P, 2) points to the nearest of (S, 2)-(S, 2) segments."""
+    if len(a) == 0:
+        return np.full(len(points), np.inf)
+    d = b - a
+    L2 = np.maximum(np.einsum("ij,ij->i", d, d), 1e-300)
+    rel = points[:, None, :] - a[None]
+    t = np.clip(np.einsum("psk,sk->ps", rel, d) / L2, 0, 1)
+    near = a[None] + t[..., None] * d[None]
+    return np.linalg.norm(points[:, None, :] - near, axis=-1).min(axis=1)
+
+
+class _LabelPlacer:
+    """Puts face labels inside their solid along the cut edge, where rays and other
+    labels leave room: candidates along the edge that fit on it, the one farthest from
+    visible rays and from labels already placed wins; ties go to the middle."""
+
+    FRACTIONS = np.array([0.5, 0.4, 0.6, 0.3, 0.7, 0.2, 0.8])
+
+    def __init__(self, rays, plane, width, taken, *, metres_per_point):
+        self.width = width
+        self.pt = metres_per_point
+        if len(rays):
+            a, b = plane.to2d(rays.start), plane.to2d(rays.end)
+            keep = rays.level > 0.35  # only rays that are clearly visible get in the way
+            self.a, self.b = a[keep], b[keep]
+        else:
+            self.a = self.b = np.zeros((0, 2))
+        self.ta, self.tb = [], []
+        for c in taken:  # solid names: short horizontal bars
+            c = np.asarray(c, float)
+            self.ta.append(c - [12 * self.pt, 0])
+            self.tb.append(c + [12 * self.pt, 0])
+
+    def place_inside(self, loop, centre, text):
+        """Spot for a solid's name inside polygon ``loop``, clear of rays, near ``centre``."""
+        from shapely.geometry import Point
+        from shapely.geometry import Polygon as SPoly
+
+        poly = SPoly(loop)
+        lo, hi = loop.min(axis=0), loop.max(axis=0)
+        g = np.stack(np.meshgrid(np.linspace(lo[0], hi[0], 13), np.linspace(lo[1], hi[1], 13)), -1)
+        half = 0.5 * len(text) * 4.4 * self.pt
+        margin = 5 * self.pt
+        cand = [np.asarray(centre, float)]
+        for p in g.reshape(-1, 2):
+            if poly.buffer(-margin).contains(Point(p)):
+                cand.append(p)
+        cand = np.array(cand)
+        ends = [cand - [half, 0], cand, cand + [half, 0]]
+        d = np.min([_seg_distance(e, self.a, self.b) for e in ends], axis=0)
+        inside = np.array([poly.contains(Point(e)) for e in ends[0]]) & np.array(
+            [poly.contains(Point(e)) for e in ends[2]])
+        score = np.minimum(d, 10 * self.pt) - 0.05 * np.linalg.norm(cand - centre, axis=1)
+        score = np.where(inside | (np.arange(len(cand)) == 0), score, -np.inf)
+        best = cand[int(np.argmax(score))]
+        self.ta.append(best - [half, 0])
+        self.tb.append(best + [half, 0])
+        return best
+
+    def place(self, p0, p1, n2, text):
+        L = float(np.linalg.norm(p1 - p0))
+        u = (p1 - p0) / max(L, 1e-300)
+        half = 0.5 * len(text) * 3.7 * self.pt
+        inset = 7.0 * self.pt
+        f = self.FRACTIONS
+        cand = p0[None] + f[:, None] * (p1 - p0)[None] - np.asarray(n2)[None] * inset
+        fits = (f * L >= half + 2 * self.pt) & ((1 - f) * L >= half + 2 * self.pt)
+        samples = np.concatenate([cand, cand - half * u, cand + half * u])
+        k = len(cand)
+        d_rays = _seg_distance(samples, self.a, self.b).reshape(3, k).min(axis=0)
+        score = np.minimum(d_rays, 14 * self.pt)
+        if self.ta:
+            d_lab = _seg_distance(samples, np.array(self.ta), np.array(self.tb)).reshape(3, k).min(axis=0)
+            score = np.minimum(score, d_lab - 2 * self.pt)
+        score = score - 0.3 * self.pt * np.abs(f - 0.5) * 10
+        if not fits.any():
+            return None  # the edge is shorter than its name: leave it unlabelled
+        score = np.where(fits, score, -np.inf)
+        best = cand[int(np.argmax(score))]
+        self.ta.append(best - half * u)
+        self.tb.append(best + half * u)
+        return best, _upright(np.degrees(np.arctan2(u[1], u[0])))
+
+
+def _face_label(ax, at, angle, face):
+    ax.text(at[0], at[1], face, ha="center", va="center", rotation=angle, rotation_mode="anchor",
+            fontsize=6, color=_style.FAINT, zorder=11,
+            bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none", alpha=0.7))
 
 
 def _end_label(ax, seg, direction, text):
