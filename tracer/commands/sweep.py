@@ -33,6 +33,8 @@ EXAMPLES = """examples:
   tracer sweep pair.toml --vary solids.upper.mate.gap 0.05um 1um 20 --out results/gap --workers 2
   tracer sweep scenes/penta_prism_laser.toml --values solids.penta.rotation[2] "0 deg,1 deg,2 deg"
   tracer sweep pair.toml --vary solids.upper.mate.gap 0.1um 1um 10 --scheduler tcp://10.0.0.5:8786
+  tracer sweep pair.toml --vary solids.lower.rotation[2] "-1 deg" "1 deg" 9
+  (a negative value with a unit needs the space: "-1 deg", not -1deg)
 
 exit codes: 0 success, 2 input error (also when a point cannot be loaded or traced)
 """

@@ -1,10 +1,11 @@
 """Parameter sweeps: vary scene values by key path, trace every point, tabulate.
 
->>> import tracer.sweep as sw                                          # doctest: +SKIP
->>> res = sw.sweep("scenes/tir_prism_pair.toml",                       # doctest: +SKIP
-...                [sw.range_axis("solids.upper.position[0]", 20.0, 20.01, 5)],
-...                workers=2, settings={"rays": 21})
->>> res.column("fraction.light_valve")                                 # doctest: +SKIP
+Example (a mated pair, see ``docs/sweeps.md``)::
+
+    import tracer.sweep as sw
+    res = sw.sweep("pair.toml", [sw.range_axis("solids.upper.mate.gap", "0.05 um", "1 um", 20)],
+                   workers=2, settings={"rays": 5})
+    res.column("Tdesign.s.through")
 
 Each point is a copy of the scene's parsed document with the axes' values written in
 (:mod:`tracer.sweep.keypath`), loaded through the scene loader -- so a bad value is
