@@ -61,6 +61,87 @@ KIND_CODES = ("T", "R", "TIR", "FT", "A", "D")
 _NK = 8
 
 
+class _KeyTable:
+    """Open-addressing hash table int64 key -> int64 value, vectorised (linear probing).
+
+    Keys are non-negative; -1 marks an empty slot. The table doubles when half full.
+    """
+
+    _C = np.uint64(0x9E3779B97F4A7C15)
+
+    def __init__(self, bits: int = 12):
+        self.bits = bits
+        self.keys = np.full(1 << bits, -1, dtype=np.int64)
+        self.vals = np.zeros(1 << bits, dtype=np.int64)
+        self.count = 0
+
+    def _slots(self, keys):
+        with np.errstate(over="ignore"):
+            h = keys.astype(np.uint64) * self._C
+        return (h >> np.uint64(64 - self.bits)).astype(np.int64)
+
+    def get_or_add(self, ukeys: np.ndarray, next_id: int):
+        """Values of unique ``ukeys``; missing keys get ``next_id, next_id + 1, ...``.
+
+        Returns (values, number of keys added).
+        """
+        if 2 * (self.count + len(ukeys)) > len(self.keys):
+            self._grow(self.count + len(ukeys))
+        mask = len(self.keys) - 1
+        slot = self._slots(ukeys)
+        out = np.full(len(ukeys), -1, dtype=np.int64)
+        pending = np.arange(len(ukeys))
+        added = 0
+        while pending.size:
+            sl = slot[pending]
+            tk = self.keys[sl]
+            kk = ukeys[pending]
+            found = tk == kk
+            if found.any():
+                out[pending[found]] = self.vals[sl[found]]
+            empty = tk == -1
+            won = np.zeros(len(pending), dtype=bool)
+            if empty.any():
+                ei = np.nonzero(empty)[0]
+                us, first = np.unique(sl[ei], return_index=True)
+                w = ei[first]
+                ids = next_id + added + np.arange(len(w))
+                self.keys[us] = kk[w]
+                self.vals[us] = ids
+                out[pending[w]] = ids
+                added += len(w)
+                won[w] = True
+            other = ~found & ~empty
+            slot[pending[other]] = (sl[other] + 1) & mask
+            pending = pending[~(found | won)]
+        self.count += added
+        return out, added
+
+    def _grow(self, need):
+        keys = self.keys[self.keys >= 0]
+        vals = self.vals[self.keys >= 0]
+        while (1 << self.bits) < 4 * need:
+            self.bits += 1
+        self.keys = np.full(1 << self.bits, -1, dtype=np.int64)
+        self.vals = np.zeros(1 << self.bits, dtype=np.int64)
+        mask = len(self.keys) - 1
+        slot = self._slots(keys)
+        pending = np.arange(len(keys))
+        while pending.size:
+            sl = slot[pending]
+            empty = self.keys[sl] == -1
+            ei = np.nonzero(empty)[0]
+            us, first = np.unique(sl[ei], return_index=True)
+            w = ei[first]
+            self.keys[us] = keys[pending[w]]
+            self.vals[us] = vals[pending[w]]
+            won = np.zeros(len(pending), dtype=bool)
+            won[w] = True
+            rest = ~won
+            slot[pending[rest & ~empty]] = (sl[rest & ~empty] + 1) & mask
+            pending = pending[rest]
+
+
 class PathTree:
     """Nodes (parent, face, kind), shared by all rays of a trace.
 
@@ -76,18 +157,31 @@ class PathTree:
         self.root_names = list(roots)
         self.face_names = list(face_names)
         n = len(self.root_names)
-        self._parent = [np.full(n, -1, dtype=np.int64)]
-        self._face = [np.full(n, -1, dtype=np.int64)]
-        self._kind = [np.full(n, -1, dtype=np.int64)]
-        self._depth = [np.zeros(n, dtype=np.int64)]
-        self._root = [np.arange(n, dtype=np.int64)]
-        self._lookup: dict[int, int] = {}
+        cap = max(1024, 2 * n)
+        self._a = {
+            "parent": np.full(cap, -1, dtype=np.int64),
+            "face": np.full(cap, -1, dtype=np.int64),
+            "kind": np.full(cap, -1, dtype=np.int64),
+            "depth": np.zeros(cap, dtype=np.int64),
+            "root": np.zeros(cap, dtype=np.int64),
+        }
+        self._a["root"][:n] = np.arange(n)
         self._size = n
-        self._cache = None
+        self._table = _KeyTable()
         self._nf = len(self.face_names) + 1
 
     def __len__(self) -> int:
         return self._size
+
+    def _reserve(self, n):
+        cap = len(self._a["parent"])
+        if n <= cap:
+            return
+        new = max(n, 2 * cap)
+        for k, v in self._a.items():
+            grown = np.full(new, -1 if k in ("parent", "face", "kind") else 0, dtype=np.int64)
+            grown[:cap] = v
+            self._a[k] = grown
 
     def extend(self, parent: np.ndarray, face: np.ndarray, kind: np.ndarray) -> np.ndarray:
         """Node ids of the events (parent, face, kind), creating new nodes as needed.
@@ -107,66 +201,46 @@ class PathTree:
             kind, dtype=np.int64
         )
         ukey, inverse = np.unique(key, return_inverse=True)
-        ids = np.empty(len(ukey), dtype=np.int64)
-        new_keys = []
-        lookup = self._lookup
-        for j, k in enumerate(ukey.tolist()):
-            node = lookup.get(k)
-            if node is None:
-                node = self._size + len(new_keys)
-                lookup[k] = node
-                new_keys.append(k)
-            ids[j] = node
-        if new_keys:
-            nk = np.array(new_keys, dtype=np.int64)
+        ids, added = self._table.get_or_add(ukey, self._size)
+        if added:
+            new = ids >= self._size
+            nk = ukey[new]
+            nid = ids[new]
+            self._reserve(self._size + added)
+            a = self._a
             p = nk // (_NK * self._nf)
-            f = (nk // _NK) % self._nf - 1
-            kd = nk % _NK
-            _, _, _, depth, root = self._arrays()
-            self._parent.append(p)
-            self._face.append(f)
-            self._kind.append(kd)
-            self._depth.append(depth[p] + 1)
-            self._root.append(root[p])
-            self._size += len(nk)
-            self._cache = None
+            a["parent"][nid] = p
+            a["face"][nid] = (nk // _NK) % self._nf - 1
+            a["kind"][nid] = nk % _NK
+            a["depth"][nid] = a["depth"][p] + 1
+            a["root"][nid] = a["root"][p]
+            self._size += added
         return ids[inverse.reshape(-1)]
-
-    def _arrays(self):
-        if self._cache is None or len(self._cache[0]) != self._size:
-            self._cache = tuple(
-                np.concatenate(x)
-                for x in (self._parent, self._face, self._kind, self._depth, self._root)
-            )
-            self._parent, self._face, self._kind, self._depth, self._root = (
-                [a] for a in self._cache
-            )
-        return self._cache
 
     @property
     def parent(self) -> np.ndarray:
         """(nodes,) int: parent node (-1 for roots)."""
-        return self._arrays()[0]
+        return self._a["parent"][: self._size]
 
     @property
     def face(self) -> np.ndarray:
         """(nodes,) int: global face id of the event (-1 for roots)."""
-        return self._arrays()[1]
+        return self._a["face"][: self._size]
 
     @property
     def kind(self) -> np.ndarray:
         """(nodes,) int: event kind code (-1 for roots)."""
-        return self._arrays()[2]
+        return self._a["kind"][: self._size]
 
     @property
     def depth(self) -> np.ndarray:
         """(nodes,) int: number of events from the root."""
-        return self._arrays()[3]
+        return self._a["depth"][: self._size]
 
     @property
     def root(self) -> np.ndarray:
         """(nodes,) int: source index of the node's root."""
-        return self._arrays()[4]
+        return self._a["root"][: self._size]
 
     def events(self, node: int) -> list[tuple[int, int]]:
         """The (face, kind) events from the source to ``node``."""

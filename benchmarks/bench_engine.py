@@ -1,0 +1,210 @@
+"""Engine benchmark: a standard 3D scene of a dozen solids, non-sequential, threshold 1e-6.
+
+Prints from one run: ray-face events per second end to end; the rate of trimesh's
+embree intersector (``intersects_first``, optional ``embreex`` from the ``bench`` extra)
+on the same geometry triangulated, and the ratio of the two; the peak memory; the time
+growth for 10x rays and 10x solids.
+
+    python benchmarks/bench_engine.py            # 10^6 source rays
+    python benchmarks/bench_engine.py --quick    # 10^5 source rays, smaller growth runs
+
+Targets: >= 1.5 million events/s per core end to end, ratio >= 0.2 to bare embree,
+< 2 GB peak for 10^7 source rays (batched).
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import resource
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+
+from tracer.engine import trace  # noqa: E402
+from tracer.engine.compile import compile_scene  # noqa: E402
+from tracer.materials.models import ConstantIndex  # noqa: E402
+from tracer.scene.model import (DetectorSpec, FaceTreatment, GapSpec, Polarization,  # noqa: E402
+                                Scene, SolidSpec, SourceSpec, Spectrum, TraceSettings)
+
+
+class _Convex:
+    """Planes-only convex solid (keeps the benchmark independent of geometry helpers)."""
+
+    is_convex = True
+
+    def __init__(self, normals, offsets, names):
+        n = np.asarray(normals, float)
+        nn = np.linalg.norm(n, axis=1)
+        self.face_normals = n / nn[:, None]
+        self.face_offsets = np.asarray(offsets, float) / nn
+        self.face_names = tuple(names)
+        v = []
+        F = len(n)
+        for i in range(F):
+            for j in range(i + 1, F):
+                for k in range(j + 1, F):
+                    A = self.face_normals[[i, j, k]]
+                    if abs(np.linalg.det(A)) < 1e-12:
+                        continue
+                    x = np.linalg.solve(A, self.face_offsets[[i, j, k]])
+                    if np.all(self.face_normals @ x <= self.face_offsets + 1e-12):
+                        v.append(x)
+        self.vertices = np.array(v)
+        self.bounds = np.array([self.vertices.min(0), self.vertices.max(0)])
+
+
+def _rot(ax, ay):
+    cx, sx, cy, sy = math.cos(ax), math.sin(ax), math.cos(ay), math.sin(ay)
+    Rx = np.array([[1, 0, 0], [0, cx, -sx], [0, sx, cx]])
+    Ry = np.array([[cy, 0, sy], [0, 1, 0], [-sy, 0, cy]])
+    return Ry @ Rx
+
+
+def _box(half, R, centre):
+    n0 = np.vstack([np.eye(3), -np.eye(3)])
+    n = n0 @ R.T
+    d = np.concatenate([half, half]) + n @ centre
+    return _Convex(n, d, ["px", "py", "pz", "mx", "my", "mz"])
+
+
+def _wedge_prism(size, R, centre):
+    # triangular prism along y, apex angle 60 deg, in the x-z plane
+    a = size
+    pts = np.array([[-a / 2, -a * 0.29], [a / 2, -a * 0.29], [0, a * 0.58]])
+    normals, offsets = [], []
+    for i in range(3):
+        p, q = pts[i], pts[(i + 1) % 3]
+        e = q - p
+        nn = np.array([e[1], 0.0, -e[0]])
+        nn = -nn / np.linalg.norm(nn)
+        normals.append(nn)
+        offsets.append(nn[[0, 2]] @ p)
+    normals += [np.array([0, 1.0, 0]), np.array([0, -1.0, 0])]
+    offsets += [a / 2, a / 2]
+    n = np.array(normals)
+    d = np.array(offsets)
+    # make outward: the centroid must be inside
+    sign = np.where(d < 0, -1.0, 1.0)
+    n, d = n * sign[:, None], d * sign
+    n = n @ R.T
+    d = d + n @ centre
+    return _Convex(n, d, ["f0", "f1", "f2", "top", "bottom"])
+
+
+def bench_scene(n_solids=12, rays=10**6, seed=3):
+    """A dozen glass solids (tilted plates, cubes, prisms, one cemented pair) along z."""
+    rng = np.random.default_rng(seed)
+    glass = ConstantIndex(1.5168, name="crown")
+    air = ConstantIndex(1.0, name="air")
+    solids, gaps = {}, {}
+    z = 0.0
+    coat = FaceTreatment(kind="ideal", reflectance=0.01)
+    for i in range(n_solids):
+        R = _rot(rng.uniform(-0.15, 0.15), rng.uniform(-0.15, 0.15))
+        kind = i % 3
+        if kind == 0:
+            g = _box(np.array([0.02, 0.02, 0.004]), R, np.array([0, 0, z + 0.005]))
+            faces = {"pz": coat}
+            z += 0.02
+        elif kind == 1:
+            g = _box(np.array([0.015, 0.015, 0.015]), R, np.array([0, 0, z + 0.017]))
+            faces = {}
+            z += 0.04
+        else:
+            g = _wedge_prism(0.03, R @ _rot(math.pi / 2, 0), np.array([0, 0, z + 0.015]))
+            faces = {}
+            z += 0.04
+        solids[f"s{i}"] = SolidSpec(name=f"s{i}", material=glass, material_name="crown",
+                                    geometry=g, faces=faces, kind="bench")
+    det = DetectorSpec(name="camera", kind="plane", position=np.array([0, 0, z + 0.05]),
+                       normal=np.array([0, 0, -1.0]), x_axis=np.array([1.0, 0, 0]),
+                       size=(0.2, 0.2), pixels=(64, 64))
+    src = SourceSpec(name="beam", kind="collimated", position=np.array([0, 0, -0.02]),
+                     direction=np.array([0, 0, 1.0]), x_axis=np.array([1.0, 0, 0]), power=1.0,
+                     rays=rays, spectrum=Spectrum(np.array([550e-9]), np.array([1.0])),
+                     polarization=Polarization(), aperture="circle", size=(0.02, 0.0))
+    return Scene(path=None, title="benchmark", dimension=3, ambient=air, ambient_name="air",
+                 spectrum=Spectrum(np.array([550e-9]), np.array([1.0])), seed=seed,
+                 settings=TraceSettings(power_threshold=1e-6, max_events=64),
+                 solids=solids, gaps=gaps, sources={"beam": src}, detectors={"camera": det},
+                 requirements={})
+
+
+def peak_mb():
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
+def run_engine(scene, rays, **kw):
+    t0 = time.perf_counter()
+    res = trace(scene, rays=rays, progress=False, **kw)
+    dt = time.perf_counter() - t0
+    return res, dt
+
+
+def embree_rate(scene, n_rays=200_000):
+    """Rays/s of trimesh's first-hit query on the triangulated scene, or None."""
+    try:
+        import trimesh
+        from trimesh.ray import ray_pyembree  # noqa: F401
+    except Exception as exc:  # embreex missing
+        return None, f"embree unavailable ({exc.__class__.__name__}: {exc})"
+    meshes = []
+    for s in scene.solids.values():
+        g = s.geometry
+        hull = trimesh.convex.convex_hull(g.vertices)
+        meshes.append(hull)
+    mesh = trimesh.util.concatenate(meshes)
+    inter = ray_pyembree.RayMeshIntersector(mesh)
+    rng = np.random.default_rng(0)
+    o = np.column_stack([rng.uniform(-0.01, 0.01, n_rays), rng.uniform(-0.01, 0.01, n_rays),
+                         np.full(n_rays, -0.02)])
+    d = np.tile([0, 0, 1.0], (n_rays, 1)) + rng.normal(0, 0.05, (n_rays, 3))
+    d /= np.linalg.norm(d, axis=1, keepdims=True)
+    inter.intersects_first(o[:1000], d[:1000])
+    t0 = time.perf_counter()
+    inter.intersects_first(o, d)
+    dt = time.perf_counter() - t0
+    return n_rays / dt, "embree (trimesh intersects_first)"
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="10^5 rays, small growth runs")
+    ap.add_argument("--rays", type=int, default=None)
+    args = ap.parse_args(argv)
+    rays = args.rays or (10**5 if args.quick else 10**6)
+    sc = bench_scene()
+    res, dt = run_engine(sc, rays)
+    ev = res.events
+    t = res.ledger.totals()
+    print(f"scene: {len(sc.solids)} solids, {sum(len(s.geometry.face_names) for s in sc.solids.values())} faces")
+    print(f"source rays: {rays:,}  events: {ev:,}  paths: {len(res.tree):,}  time: {dt:.2f} s")
+    print(f"end-to-end rate: {ev / dt / 1e6:.3f} M events/s (one process)")
+    print(f"ledger residual: {t['residual_w']:.3e} W of {t['source_w']:.3f} W; "
+          f"detected {t['detected_w']:.4f} W, discarded {t['discarded_w']:.2e} W")
+    rate, label = embree_rate(sc)
+    if rate is None:
+        print(f"bare intersector: {label}")
+    else:
+        print(f"bare intersector: {rate / 1e6:.3f} M rays/s [{label}]")
+        print(f"ratio engine/bare: {ev / dt / rate:.3f}")
+    print(f"peak memory so far: {peak_mb():.0f} MB")
+    small = max(rays // 10, 1000)
+    _, dt1 = run_engine(sc, small)
+    _, dt10 = run_engine(sc, small * 10)
+    print(f"time growth for 10x rays ({small:,} -> {small * 10:,}): {dt10 / dt1:.2f}x")
+    sc10 = bench_scene(n_solids=120)
+    r1, dts1 = run_engine(bench_scene(n_solids=12), small)
+    r10, dts10 = run_engine(sc10, small)
+    print(f"time growth for 10x solids (12 -> 120, {small:,} rays): {dts10 / dts1:.2f}x "
+          f"(events {r1.events:,} -> {r10.events:,})")
+    print(f"peak memory: {peak_mb():.0f} MB")
+
+
+if __name__ == "__main__":
+    main()
