@@ -75,19 +75,21 @@ def _ghost(result, detector):
 def _irradiance_figure(result, det):
     """Linear map, log map and profiles of one detector in one figure."""
     plt = _style.pyplot()
-    data = P.irradiance_data(result, det)
+    data = P.irradiance_data(result, det, pixels="auto")
     line = min(data["irradiance"].shape) == 1
     with _style.style():
         if line:
             fig, axes = plt.subplots(1, 2, figsize=(9.6, 3.4), constrained_layout=True)
-            P.line_profile(result, det, ax=axes[0], title=f"{det}: irradiance")
-            P.line_profile(result, det, ax=axes[1], log=True, title="log scale")
+            P.line_profile(result, det, ax=axes[0], pixels="auto")
+            P.line_profile(result, det, ax=axes[1], log=True, title="log scale", pixels="auto")
             return fig
-        fig = plt.figure(figsize=(12.0, 3.9), constrained_layout=True)
+        fig = plt.figure(figsize=(12.0, 4.0), constrained_layout=True)
         gs = fig.add_gridspec(1, 3, width_ratios=[1, 1, 1.05])
-        P.irradiance_map(result, det, ax=fig.add_subplot(gs[0]))
-        P.irradiance_map(result, det, ax=fig.add_subplot(gs[1]), log=True, title="log scale")
-        P.line_profile(result, det, ax=fig.add_subplot(gs[2]), title="profiles through the centroid")
+        P.irradiance_map(result, det, ax=fig.add_subplot(gs[0]), pixels="auto")
+        P.irradiance_map(result, det, ax=fig.add_subplot(gs[1]), log=True, title="log scale",
+                         pixels="auto")
+        P.line_profile(result, det, ax=fig.add_subplot(gs[2]), title="profiles through the centroid",
+                       pixels="auto")
     return fig
 
 
@@ -131,8 +133,8 @@ def build_scene(path: Path) -> dict:
         files["irradiance"] = _write(_irradiance_figure(maps, det), f"{name}_irradiance")
         data = P.irradiance_data(maps, det)
         if data["total_power"] > 0:
-            files["stokes"] = _write(P.stokes_maps(maps, det), f"{name}_stokes")
-    if maps.compiled.far_fields:
+            files["stokes"] = _write(P.stokes_maps(maps, det, pixels="auto"), f"{name}_stokes")
+    if maps.compiled.far_fields and P.far_field_data(maps)["total_power"] > 0:
         files["farfield"] = _write(P.far_field_map(maps), f"{name}_farfield")
     files["budget"] = _write(P.budget_figure(maps), f"{name}_budget")
     table = _md_table(maps, det) if det else ""
@@ -171,7 +173,9 @@ How to read the figures:
 * The **highlighted path** (a grey halo around one ray) is the strongest ghost on the
   main detector, the plane detector receiving the most power.
 * **Maps** are seen from the light side (u to the right, v up); irradiance in W/m²,
-  Stokes parameters normalised by S0 (blank where there is almost no power).
+  Stokes parameters normalised by S0 (blank where there is almost no power). The
+  gallery bins them on the detector grid coarsened by powers of two until lit pixels
+  get a few rays each (`pixels="auto"`), so that a few thousand rays give smooth maps.
 * The **budget** puts every account on a log power axis; it closes to the source power.
 """
 

@@ -205,3 +205,18 @@ def test_every_function_draws_into_a_given_axes():
     fig, axes = plt.subplots(1, 3)
     assert P.stokes_maps(res, "camera", axes=axes) is fig
     plt.close("all")
+
+
+def test_auto_pixels_coarsen_and_conserve_power():
+    sc = plate_scene(rays=300)
+    sc = dataclasses.replace(sc, detectors={k: dataclasses.replace(d, pixels=(256, 256), size=(4e-3, 4e-3))
+                                            for k, d in sc.detectors.items()})
+    res = tracer.trace(sc)
+    fine = P.irradiance_data(res, "camera")
+    auto = P.irradiance_data(res, "camera", pixels="auto")
+    assert fine["irradiance"].shape == (256, 256)
+    assert auto["irradiance"].shape[0] < 256
+    for d in (fine, auto, P.irradiance_data(res, "camera", pixels=(10, 5))):
+        assert d["irradiance"].sum() * d["pixel_area"] == pytest.approx(res.detector_power("camera"), rel=1e-9)
+    with pytest.raises(TracerError):
+        P.irradiance_data(res, "camera", pixels="fine")

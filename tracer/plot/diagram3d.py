@@ -171,7 +171,7 @@ def draw_view(scene, result=None, *, view="isometric", ax=None, min_power: float
     scale_bar, legend : bool
     title : str or bool
         ``True``: the view's name.
-    span : float [m] or None
+    span : float or (float, float) [m] or None
         Width and height of the drawing window (default: the content plus a margin);
         views given the same span share one scale.
     rays : RaySet or None
@@ -190,15 +190,19 @@ def draw_view(scene, result=None, *, view="isometric", ax=None, min_power: float
     xy = plane.to2d(pts)
     lo, hi = xy.min(axis=0), xy.max(axis=0)
     extent = float(max(np.max(hi - lo), 1e-9))
-    full = float(span) if span else extent * 1.08
+    if span is None:
+        sx = sy = extent * 1.08
+    else:
+        sx, sy = (float(span), float(span)) if np.isscalar(span) else (float(span[0]), float(span[1]))
+    full = max(sx, sy)
     _, scale = _style.length_unit(full)
     with _style.style():
         _draw_solids(ax, scene, plane, colors, scale)
         _draw_detectors(ax, scene, plane, scale)
         _add_rays(ax, rays, plane, scale)
         c = (lo + hi) / 2
-        ax.set_xlim((c[0] - full / 2) / scale, (c[0] + full / 2) / scale)
-        ax.set_ylim((c[1] - full / 2) / scale, (c[1] + full / 2) / scale)
+        ax.set_xlim((c[0] - sx / 2) / scale, (c[0] + sx / 2) / scale)
+        ax.set_ylim((c[1] - sy / 2) / scale, (c[1] + sy / 2) / scale)
         ax.set_aspect("equal")
         ax.set_axis_off()
         _triad(ax, plane)
@@ -240,16 +244,24 @@ def draw_3d_views(scene, result=None, *, min_power: float = 1e-6, highlight=None
     plt = _style.pyplot()
     rays = prepare_rays(result, min_power=min_power, highlight=highlight)
     pts = _scene_points(scene, rays)
-    span = 0.0
-    for v in ("top", "front", "side", "isometric"):
-        xy = view_plane(v).to2d(pts)
-        span = max(span, float(np.max(np.ptp(xy, axis=0))))
-    span = max(span, 1e-9) * 1.08
+    order = ("top", "isometric", "front", "side")
+    ext = {v: np.ptp(view_plane(v).to2d(pts), axis=0) for v in order}
+    big = max(max(float(e.max()) for e in ext.values()), 1e-9)
+    ext = {v: np.maximum(e, 0.3 * big) * 1.12 + 0.12 * big for v, e in ext.items()}  # margins, no slivers
+    widths = [max(ext["top"][0], ext["front"][0]), max(ext["isometric"][0], ext["side"][0])]
+    heights = [max(ext["top"][1], ext["isometric"][1]), max(ext["front"][1], ext["side"][1])]
+    fig_w = figsize[0]
+    k = 0.94 * fig_w / sum(widths)  # inches per metre: one scale for all four views
+    fig_h = float(np.clip(k * sum(heights) * 1.12 + 1.3, 4.0, figsize[1] * 1.4))
     with _style.style():
-        fig, axes = plt.subplots(2, 2, figsize=figsize, gridspec_kw=dict(wspace=0.04, hspace=0.1))
-        for ax, v in zip(axes.ravel(), ("top", "isometric", "front", "side")):
-            draw_view(scene, None, view=v, ax=ax, rays=rays, span=span, legend=False,
-                      scale_bar=True)
+        fig, axes = plt.subplots(2, 2, figsize=(fig_w, fig_h),
+                                 gridspec_kw=dict(wspace=0.04, hspace=0.12, width_ratios=widths,
+                                                  height_ratios=heights))
+        cells = {"top": (0, 0), "isometric": (0, 1), "front": (1, 0), "side": (1, 1)}
+        for v in order:
+            r, c = cells[v]
+            draw_view(scene, None, view=v, ax=axes[r, c], rays=rays,
+                      span=(widths[c], heights[r]), legend=False, scale_bar=True)
         colors = material_colors(s.material_name for s in scene.solids.values())
         leg_ax = axes[1, 0]
         hl = rays.highlight.any()
@@ -258,12 +270,12 @@ def draw_3d_views(scene, result=None, *, min_power: float = 1e-6, highlight=None
         if leg is not None:
             leg.remove()
             fig.legend(handles=leg.legend_handles, loc="lower center", ncol=min(5, len(leg.legend_handles)),
-                       bbox_to_anchor=(0.5, 0.02), frameon=False, handlelength=1.6)
+                       bbox_to_anchor=(0.5, 0.25 / fig_h), frameon=False, handlelength=1.6)
         if hl and isinstance(highlight, str):
             fig.text(0.5, 0.005, "highlighted: " + _short_signature(highlight, 160), ha="center",
                      va="bottom", fontsize=6.5, color=_style.FAINT, wrap=True)
         if title:
             fig.suptitle(scene.title if title is True else str(title), x=0.05, ha="left",
-                         fontweight="bold", fontsize=11, y=0.975)
-        fig.subplots_adjust(left=0.02, right=0.98, top=0.92, bottom=0.09)
+                         fontweight="bold", fontsize=11, y=1 - 0.12 / fig_h)
+        fig.subplots_adjust(left=0.02, right=0.98, top=1 - 0.55 / fig_h, bottom=0.75 / fig_h)
     return fig

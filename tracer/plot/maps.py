@@ -22,6 +22,8 @@ power are left blank (grey).
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from . import _style
@@ -50,7 +52,39 @@ def _plane_spec(result, detector):
     return spec
 
 
-def irradiance_data(result, detector: str | None = None) -> dict:
+def _auto_pixels(spec, loc, power, *, target: float = 4.0, max_holes: float = 0.02, minimum: int = 8):
+    """Detector grid coarsened by powers of two until the lit pixels get ``target`` hits on
+    average, dark pixels between lit ones are rare (at most ``max_holes`` of the lit
+    count) and the lit pixels fill half the box around them (no dotted maps from a sparse
+    ray grid); never below ``minimum`` pixels a side,
+    never finer than the detector."""
+    from tracer.detectors import DetectorRecord
+
+    nx, ny = spec.pixels
+    while True:
+        rec = DetectorRecord(dataclasses.replace(spec, pixels=(nx, ny)))
+        if len(power):
+            rec.add(loc[:, 0], loc[:, 1], np.ones(len(power)))
+        on = rec.power_map() > 0
+        lit = int(on.sum())
+        if lit == 0:
+            return nx, ny
+        # holes: dark pixels between lit neighbours (left and right, or above and below)
+        pad = np.pad(on, 1)
+        between = (pad[1:-1, :-2] & pad[1:-1, 2:]) | (pad[:-2, 1:-1] & pad[2:, 1:-1])
+        holes = int((between & ~on).sum())
+        rows, cols = np.nonzero(on)
+        fill = lit / ((np.ptp(rows) + 1) * (np.ptp(cols) + 1))  # of the box around the light
+        if len(power) / lit >= target and holes <= max_holes * lit and fill >= 0.5:
+            return nx, ny
+        nx2 = max(minimum, nx // 2) if nx > 1 else 1
+        ny2 = max(minimum, ny // 2) if ny > 1 else 1
+        if (nx2, ny2) == (nx, ny):
+            return nx, ny
+        nx, ny = nx2, ny2
+
+
+def irradiance_data(result, detector: str | None = None, *, pixels=None) -> dict:
     """Binned maps of a plane detector.
 
     Parameters
@@ -58,23 +92,37 @@ def irradiance_data(result, detector: str | None = None) -> dict:
     result : tracer.engine.Result
     detector : str or None
         Plane detector name (default: the first plane detector).
+    pixels : None, "auto" or (nx, ny)
+        Grid of the maps: ``None`` the detector's own pixels; ``(nx, ny)`` another grid
+        over the same rectangle; ``"auto"`` the detector's grid coarsened by powers of
+        two until lit pixels receive at least 4 hits on average and dark pixels between
+        lit ones are rare (smooth maps from few rays). Power is conserved whatever
+        the grid.
 
     Returns
     -------
     dict
         ``irradiance`` (ny, nx) [W/m²], ``power`` (ny, nx) [W], ``stokes`` (4, ny, nx)
-        [W], ``u_edges`` (nx+1,), ``v_edges`` (ny+1,) [m], ``pixel_area`` [m²],
+        [W/m²], ``u_edges`` (nx+1,), ``v_edges`` (ny+1,) [m], ``pixel_area`` [m²],
         ``total_power`` [W], ``centroid`` (u, v) [m] (power-weighted; NaN without hits),
-        ``detector`` (the DetectorSpec), ``hits`` (count).
+        ``detector`` (the DetectorSpec, with the grid used), ``hits`` (count).
     """
     from tracer.detectors import DetectorRecord
 
     spec = _plane_spec(result, detector)
     h = result.hits(spec.name)
-    rec = DetectorRecord(spec)
     loc = np.asarray(h["local"], float).reshape(-1, 2)
     power = np.asarray(h["power"], float).reshape(-1)
     stokes = np.asarray(h["stokes"], float).reshape(-1, 4)
+    if isinstance(pixels, str):
+        if pixels != "auto":
+            from tracer.errors import TracerError
+
+            raise TracerError(f'pixels={pixels!r}: expected None, "auto" or (nx, ny)')
+        pixels = _auto_pixels(spec, loc, power)
+    if pixels is not None:
+        spec = dataclasses.replace(spec, pixels=(int(pixels[0]), int(pixels[1])))
+    rec = DetectorRecord(spec)
     if len(power):
         rec.add(loc[:, 0], loc[:, 1], power, stokes)
     total = float(power.sum())
@@ -101,7 +149,7 @@ def _is_line(data):
 
 def irradiance_map(result, detector: str | None = None, *, log: bool = False, ax=None,
                    floor: float = 1e-6, title: str | bool = True, colorbar: bool = True,
-                   centroid: bool = True, figsize=(5.2, 4.2)):
+                   centroid: bool = True, pixels=None, figsize=(5.2, 4.2)):
     """Irradiance map of a plane detector [W/m²], linear or log colour scale.
 
     Parameters
@@ -119,6 +167,8 @@ def irradiance_map(result, detector: str | None = None, *, log: bool = False, ax
     colorbar : bool
     centroid : bool
         Mark the power centroid with a small cross.
+    pixels : None, "auto" or (nx, ny)
+        Map grid (see :func:`irradiance_data`).
 
     Returns
     -------
@@ -128,7 +178,7 @@ def irradiance_map(result, detector: str | None = None, *, log: bool = False, ax
     -----
     A detector one pixel high (or wide) is drawn as an irradiance curve along its length.
     """
-    data = irradiance_data(result, detector)
+    data = irradiance_data(result, detector, pixels=pixels)
     if _is_line(data):
         return line_profile(result, data["detector"].name, ax=ax, log=log, title=title,
                             figsize=figsize, _data=data)
@@ -172,12 +222,15 @@ def _set_title(ax, title, data, what):
     if title is True:
         from tracer.units import format_power
 
-        title = f"{data['detector'].name}: {what}, {format_power(data['total_power'], digits=4)}"
+        tot = data["total_power"]
+        title = f"{data['detector'].name}: {what}, " + (format_power(tot, digits=4) if tot > 0
+                                                          else "no power")
     ax.set_title(str(title), loc="left")
 
 
 def line_profile(result, detector: str | None = None, *, axis: str = "both", ax=None,
-                 log: bool = False, title: str | bool = True, figsize=(5.2, 3.4), _data=None):
+                 log: bool = False, title: str | bool = True, pixels=None, figsize=(5.2, 3.4),
+                 _data=None):
     """Irradiance along the detector row and/or column through the power centroid.
 
     Parameters
@@ -191,6 +244,8 @@ def line_profile(result, detector: str | None = None, *, axis: str = "both", ax=
     log : bool
         Logarithmic irradiance axis.
     title : str or bool
+    pixels : None, "auto" or (nx, ny)
+        Map grid (see :func:`irradiance_data`).
 
     Returns
     -------
@@ -201,7 +256,7 @@ def line_profile(result, detector: str | None = None, *, axis: str = "both", ax=
     The curves are pixel values (steps), so they integrate with the pixel pitch to the
     power in that row or column.
     """
-    data = _data or irradiance_data(result, detector)
+    data = _data or irradiance_data(result, detector, pixels=pixels)
     if axis not in ("u", "v", "both"):
         from tracer.errors import TracerError
 
@@ -214,12 +269,16 @@ def line_profile(result, detector: str | None = None, *, axis: str = "both", ax=
     ue, ve = data["u_edges"], data["v_edges"]
     col = int(np.clip(np.searchsorted(ue, cu) - 1, 0, nx - 1)) if np.isfinite(cu) else nx // 2
     row = int(np.clip(np.searchsorted(ve, cv) - 1, 0, ny - 1)) if np.isfinite(cv) else ny // 2
+    def _at(x):
+        x = x / scale
+        return f"{0.0 if abs(x) < 1e-9 * (ext[1] - ext[0]) else x:.3g}"
+
     with _style.style():
         curves = []
         if axis in ("u", "both") and nx > 1:
-            curves.append((ue / scale, img[row, :], f"along u (row at v = {((ve[row] + ve[row + 1]) / 2) / scale:.3g} {sym})", "#1f4e79"))
+            curves.append((ue / scale, img[row, :], f"along u (row at v = {_at((ve[row] + ve[row + 1]) / 2)} {sym})", "#1f4e79"))
         if axis in ("v", "both") and ny > 1:
-            curves.append((ve / scale, img[:, col], f"along v (column at u = {((ue[col] + ue[col + 1]) / 2) / scale:.3g} {sym})", "#b35806"))
+            curves.append((ve / scale, img[:, col], f"along v (column at u = {_at((ue[col] + ue[col + 1]) / 2)} {sym})", "#b35806"))
         for edges, vals, label, color in curves:
             ax.stairs(vals, edges, color=color, lw=1.1, label=label, baseline=None)
         if log:
@@ -234,13 +293,13 @@ def line_profile(result, detector: str | None = None, *, axis: str = "both", ax=
         ax.grid(True, color=_style.GRID, lw=0.5)
         ax.set_axisbelow(True)
         if len(curves) > 1:
-            ax.legend(loc="upper right")
+            ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=1)
         _set_title(ax, title, data, "irradiance profile")
     return fig
 
 
 def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction: float = 1e-3,
-                title: str | bool = True, figsize=(10.0, 3.4)):
+                title: str | bool = True, pixels=None, figsize=(10.0, 3.4)):
     """Normalised Stokes maps S1/S0, S2/S0, S3/S0 of a plane detector.
 
     Parameters
@@ -253,6 +312,8 @@ def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction:
     min_fraction : float [1]
         Pixels with less power than this fraction of the peak pixel are blank.
     title : str or bool
+    pixels : None, "auto" or (nx, ny)
+        Map grid (see :func:`irradiance_data`).
 
     Returns
     -------
@@ -264,7 +325,7 @@ def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction:
     (``x_axis``), S2 > 0 linear at +45° towards v, S3 > 0 right-handed circular in the
     convention of :mod:`tracer.polarization`.
     """
-    data = irradiance_data(result, detector)
+    data = irradiance_data(result, detector, pixels=pixels)
     plt = _style.pyplot()
     with _style.style():
         if axes is None:
@@ -390,7 +451,9 @@ def far_field_map(result, name: str | None = None, *, log: bool = True, ax=None,
 
             ffs = result.compiled.far_fields
             nm = name or (ffs[0].name if ffs else "far field")
-            text = (f"{nm}: far field, {format_power(data['total_power'], digits=4)} escaping"
+            tot = data["total_power"]
+            text = (f"{nm}: far field, " + (f"{format_power(tot, digits=4)} escaping" if tot > 0
+                                             else "no escaping power")
                     if title is True else str(title))
             ax.set_title(text, loc="left", pad=14)
     return fig
