@@ -220,3 +220,9 @@ def test_auto_pixels_coarsen_and_conserve_power():
         assert d["irradiance"].sum() * d["pixel_area"] == pytest.approx(res.detector_power("camera"), rel=1e-9)
     with pytest.raises(TracerError):
         P.irradiance_data(res, "camera", pixels="fine")
+
+
+def test_budget_names_detectors_without_power():
+    rows = [("detector", "camera", 1.0), ("detector", "leak", 0.0)]
+    fig = P.budget_figure(rows)
+    assert any("no power on leak" in t.get_text() for t in fig.axes[0].texts)

@@ -129,6 +129,11 @@ def budget_figure(budget, *, ax=None, floor: float = 1e-12, title: str | bool = 
         cats += sorted({r[0] for r in keep} - set(_ORDER))
         ax.legend(handles=[Patch(color=CATEGORY_COLORS.get(c, "#777777"), label=c) for c in cats],
                   loc="upper center", bbox_to_anchor=(0.5, -0.55 / n - 0.12), ncol=min(len(cats), 4))
+        empty = [r[1] for r in rows if r[0] == "detector" and r[2] <= floor * max(src, 1e-300)]
+        if empty:
+            ax.annotate("no power on " + ", ".join(empty), xy=(1.0, 1.0), xycoords="axes fraction",
+                        xytext=(0, 4), textcoords="offset points", ha="right", va="bottom",
+                        fontsize=7, color=_style.FAINT)
         if title:
             ax.set_title(f"power budget, source {format_power(src, digits=4)}" if title is True
                          else str(title), loc="left")
