@@ -30,7 +30,11 @@ Directions follow Snell's law in vector form with the invariant ``n sin(theta)``
 (Eq. 4.46-type vector form in Hecht, "Optics", 5th ed., 2017; recalled from memory),
 ``n`` the unit normal pointing into the second medium. In absorbing media the real
 parts of the indices fix the directions (the inhomogeneous-wave tilt is neglected);
-the coefficients use the complex indices.
+the coefficients use the complex index of the medium beyond the face and the real
+part of the incident medium's index (its loss is booked as bulk absorption along the
+segment, Beer--Lambert; an absorbing incident medium has no well-posed plane-wave
+interface problem, cf. Byrnes, "Multilayer optical calculations", 2016, which
+requires a lossless incident medium).
 """
 
 from __future__ import annotations
@@ -218,7 +222,10 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         t_face[ia] = pf
         t_origin[ia] = on_b
         local_d[ia] = np.abs(dist)
-    n1 = ntab[medium + 1, wl_index]
+    # The incident medium's extinction is booked as bulk absorption; an absorbing
+    # incident medium has no well-posed plane-wave interface problem (the tangential
+    # wave number would be complex), so its coefficients use the real part.
+    n1 = ntab[medium + 1, wl_index].real.astype(complex)
     solid_med = ntab[solid + 1, wl_index]
     partner_solid = np.where(across, cs.face_solid[np.where(across, cs.face_partner[face], 0)], -1)
     n2 = np.where(inside, np.where(across, ntab[partner_solid + 1, wl_index], ntab[0, wl_index]),
