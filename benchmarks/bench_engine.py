@@ -97,23 +97,23 @@ def _wedge_prism(size, R, centre):
 
 
 def bench_scene(n_solids=12, rays=10**6, seed=3):
-    """A dozen glass solids (tilted plates, cubes, prisms, one cemented pair) along z."""
+    """A dozen glass solids (tilted AR-coated plates and cubes, uncoated prisms) along z."""
     rng = np.random.default_rng(seed)
     glass = ConstantIndex(1.5168, name="crown")
     air = ConstantIndex(1.0, name="air")
     solids, gaps = {}, {}
     z = 0.0
-    coat = FaceTreatment(kind="ideal", reflectance=0.01)
+    ar = FaceTreatment(kind="ideal", reflectance=0.005)  # V-coat class anti-reflection
     for i in range(n_solids):
         R = _rot(rng.uniform(-0.15, 0.15), rng.uniform(-0.15, 0.15))
         kind = i % 3
         if kind == 0:
             g = _box(np.array([0.02, 0.02, 0.004]), R, np.array([0, 0, z + 0.005]))
-            faces = {"pz": coat}
+            faces = {f: ar for f in ("pz", "mz")}
             z += 0.02
         elif kind == 1:
             g = _box(np.array([0.015, 0.015, 0.015]), R, np.array([0, 0, z + 0.017]))
-            faces = {}
+            faces = {"pz": ar, "mz": ar}
             z += 0.04
         else:
             g = _wedge_prism(0.03, R @ _rot(math.pi / 2, 0), np.array([0, 0, z + 0.015]))

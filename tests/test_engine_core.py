@@ -71,3 +71,41 @@ def test_cut_at_event_cap_is_booked():
 def test_unknown_setting_is_a_user_error():
     with pytest.raises(tracer.errors.TracerError, match="did you mean 'max_events'"):
         trace(plate_scene(), max_event=3)
+
+
+def test_fast_field_rebuild_matches_polarization_apply_interface():
+    from tracer import polarization as pol
+    from tracer.engine.interact import _project, rebuild
+
+    rng = np.random.default_rng(4)
+    k = rng.normal(size=(20, 3))
+    k /= np.linalg.norm(k, axis=1, keepdims=True)
+    nrm = rng.normal(size=(20, 3))
+    nrm /= np.linalg.norm(nrm, axis=1, keepdims=True)
+    k_out = rng.normal(size=(20, 3))
+    k_out /= np.linalg.norm(k_out, axis=1, keepdims=True)
+    M = rng.normal(size=(20, 3, 2)) + 1j * rng.normal(size=(20, 3, 2))
+    s, p = pol.sp_basis(k, nrm)
+    amp_s = rng.normal(size=20) + 1j * rng.normal(size=20)
+    amp_p = rng.normal(size=20) + 1j * rng.normal(size=20)
+    ref = pol.apply_interface(M, k, k_out, s, amp_s, amp_p)
+    p_out = np.cross(k_out, s)
+    p_out /= np.linalg.norm(p_out, axis=1, keepdims=True)
+    got = rebuild(s, p_out, _project(s, M), _project(p, M), amp_s, amp_p)
+    assert np.allclose(got, ref, atol=1e-12)
+
+
+def test_path_mueller_of_plate_direct_path():
+    # At normal incidence an uncoated plate is a neutral attenuator: the direct path's
+    # Mueller matrix is T^2 times a non-depolarising matrix with |M11| = |M22| = |M33| = 1
+    # (Fresnel, Hecht, Optics, sec. 4.6; polarisation unchanged at normal incidence).
+    R = _fresnel_R(1.5)
+    res = trace(plate_scene(stokes=(1, 1, 0, 0)))
+    sig = res.paths("camera")[0]["signature"]
+    M = res.mueller("camera", sig)
+    T2 = (1 - R) ** 2
+    assert M[0, 0] == pytest.approx(T2, rel=1e-12)
+    assert np.allclose(np.abs(np.diag(M)), T2, rtol=1e-12)
+    S = res.path_stokes("camera", sig)
+    assert S[0] == pytest.approx(T2, rel=1e-12)
+    assert abs(S[1]) == pytest.approx(T2, rel=1e-12)  # linear along x stays linear

@@ -75,6 +75,8 @@ class CompiledScene:
     det_two_sided: np.ndarray
     far_fields: list  # DetectorSpec of far-field detectors
     face_index: dict = field(default_factory=dict)
+    face_group: np.ndarray = None  # treatment group per face (coated faces)
+    group_treatment: list = field(default_factory=list)
     _n_cache: dict = field(default_factory=dict)
 
     @property
@@ -218,7 +220,20 @@ def compile_scene(scene) -> CompiledScene:
                 raise EngineError(f"gap {gname!r}: face {all_names[f]!r} already in a gap")
             face_gap[f] = g
             partner[f] = p
+    groups: dict = {}
+    face_group = np.full(len(all_names), -1, dtype=np.int64)
+    group_treatment = []
+    for f, t in enumerate(treat):
+        if t is None:
+            continue
+        key = id(t)
+        if key not in groups:
+            groups[key] = len(group_treatment)
+            group_treatment.append(t)
+        face_group[f] = groups[key]
     return CompiledScene(
+        face_group=face_group,
+        group_treatment=group_treatment,
         scene=scene,
         solid_names=names,
         geometries=geoms,

@@ -245,11 +245,13 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         co.Rs[mirror], co.Rp[mirror] = 1.0, 1.0
     coated = (code == COATED) & ~across
     if coated.any():
-        for f in np.unique(face[coated]):
-            sel = coated & (face == f)
+        # one call per distinct treatment (faces sharing a coating are solved together)
+        group = cs.face_group[face]
+        for gi in np.unique(group[coated]):
+            sel = coated & (group == gi)
             n_in_solid = np.where(inside[sel], n1[sel], n2[sel])
             n_out = np.where(inside[sel], n2[sel], n1[sel])
-            co.fill(sel, _coated(cs.face_treatment[f], n_inside=n_in_solid, n_outside=n_out,
+            co.fill(sel, _coated(cs.group_treatment[gi], n_inside=n_in_solid, n_outside=n_out,
                                  wavelength=wavelength[sel], cos_angle=cos1[sel],
                                  from_inside=inside[sel]))
     beyond_gap = np.zeros(n, dtype=bool)
@@ -277,21 +279,45 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
 
     # fields and powers ----------------------------------------------------------
     s, p_in = pol.sp_basis(k, nhat)
-    a_s = np.einsum("ni,nik->nk", s, field)
-    a_p = np.einsum("ni,nik->nk", p_in, field)
-    Ps = np.einsum("nk,nkl,nl->n", a_s, coherency, a_s.conj()).real
-    Pp = np.einsum("nk,nkl,nl->n", a_p, coherency, a_p.conj()).real
+    a_s = _project(s, field)
+    a_p = _project(p_in, field)
+    Ps = _jpower(a_s, coherency)
+    Pp = _jpower(a_p, coherency)
     r_power = co.Rs * Ps + co.Rp * Pp
     t_power = np.where(t_exists, co.Ts * Ps + co.Tp * Pp, 0.0)
-    r_field = pol.apply_interface(field, k, r_dir, s, co.rs * _unit_amp(co.Rs, co.rs),
-                                  co.rp * _unit_amp(co.Rp, co.rp))
-    t_field = pol.apply_interface(field, k, t_dir, s, co.ts, co.tp)
+    r_field = rebuild(s, np.cross(r_dir, s), a_s, a_p, co.rs * _unit_amp(co.Rs, co.rs),
+                      co.rp * _unit_amp(co.Rp, co.rp))
+    t_field = rebuild(s, np.cross(t_dir, s), a_s, a_p, co.ts, co.tp)
     absorbed = power - r_power - t_power
     return Split(
         r_dir=r_dir, r_field=r_field, r_power=r_power, r_kind=r_kind,
         t_exists=t_exists, t_dir=t_dir, t_field=t_field, t_power=t_power, t_kind=t_kind,
         t_origin=t_origin, t_medium=t_medium, t_face=t_face, absorbed=absorbed,
     )
+
+
+def _project(v, field):
+    """(N, 2) components ``v . M[:, :, k]`` of the field matrices along unit ``v``."""
+    return (v[:, 0, None] * field[:, 0, :] + v[:, 1, None] * field[:, 1, :]
+            + v[:, 2, None] * field[:, 2, :])
+
+
+def _jpower(a, J):
+    """``Re(a J a^H)`` for (N, 2) rows ``a`` and (N, 2, 2) Hermitian ``J`` [W]."""
+    a0, a1 = a[:, 0], a[:, 1]
+    return (J[:, 0, 0].real * (a0.real**2 + a0.imag**2) + J[:, 1, 1].real * (a1.real**2 + a1.imag**2)
+            + 2.0 * (a0 * J[:, 0, 1] * a1.conj()).real)
+
+
+def rebuild(s, p_out, a_s, a_p, amp_s, amp_p):
+    """Child field matrices ``s (amp_s a_s) + p_out (amp_p a_p)`` (N, 3, 2).
+
+    The same construction as :func:`tracer.polarization.apply_interface`, written out
+    for speed (the engine tests check that the two agree).
+    """
+    cs = amp_s[:, None] * a_s
+    cp = amp_p[:, None] * a_p
+    return s[:, :, None] * cs[:, None, :] + p_out[:, :, None] * cp[:, None, :]
 
 
 def _unit_amp(R, r):

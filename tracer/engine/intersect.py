@@ -42,14 +42,16 @@ def box_candidates(lo, hi, origin, direction):
     -------
     ray, box : (P,) int
     """
-    with np.errstate(divide="ignore", invalid="ignore"):
-        inv = 1.0 / direction
-        t1 = (lo[None] - origin[:, None]) * inv[:, None]
-        t2 = (hi[None] - origin[:, None]) * inv[:, None]
-    tmin = np.fmax(np.fmax(np.fmin(t1[..., 0], t2[..., 0]), np.fmin(t1[..., 1], t2[..., 1])),
-                   np.fmin(t1[..., 2], t2[..., 2]))
-    tmax = np.fmin(np.fmin(np.fmax(t1[..., 0], t2[..., 0]), np.fmax(t1[..., 1], t2[..., 1])),
-                   np.fmax(t1[..., 2], t2[..., 2]))
+    # a zero component becomes a tiny one of the same sign: no 0 * inf
+    safe = np.where(direction == 0, 1e-300, direction)
+    inv = 1.0 / safe
+    tmin = np.full((len(origin), len(lo)), -np.inf)
+    tmax = np.full((len(origin), len(lo)), np.inf)
+    for a in range(3):
+        t1 = (lo[None, :, a] - origin[:, None, a]) * inv[:, None, a]
+        t2 = (hi[None, :, a] - origin[:, None, a]) * inv[:, None, a]
+        np.maximum(tmin, np.minimum(t1, t2), out=tmin)
+        np.minimum(tmax, np.maximum(t1, t2), out=tmax)
     hit = tmax >= np.maximum(tmin, 0.0)
     return np.nonzero(hit)
 

@@ -33,6 +33,7 @@ class Result:
         self._rec = recorder
         self.launched = launched
         self._nodes = recorder.node_table()
+        self._slot = {int(n): i for i, n in enumerate(self._nodes["nodes"])}
         self._hits = None
 
     # ------------------------------------------------------------------ basics
@@ -77,8 +78,10 @@ class Result:
             raise KeyError(self._unknown_detector(detector))
         gid = cs.n_faces + cs.detector_names.index(detector)
         t = self.tree
-        nodes = np.nonzero((t.face == gid) & (t.kind == DETECT) & (self._nodes["count"] > 0))[0]
-        pw = self._nodes["power"][nodes]
+        all_nodes = self._nodes["nodes"]
+        sel = (t.face[all_nodes] == gid) & (t.kind[all_nodes] == DETECT) & (self._nodes["count"] > 0)
+        nodes = all_nodes[sel]
+        pw = self._nodes["power"][sel]
         sig = [t.signature(n) for n in nodes]
         order = sorted(range(len(nodes)), key=lambda i: (-pw[i], sig[i]))
         return nodes[order] if len(nodes) else nodes
@@ -89,11 +92,12 @@ class Result:
         out = []
         for n in self.path_nodes(detector):
             ev = t.events(n)
+            i = self._slot[int(n)]
             out.append(dict(
                 signature=t.signature(n),
-                power_w=float(self._nodes["power"][n]),
+                power_w=float(self._nodes["power"][i]),
                 reflections=t.reflections(n),
-                rays=int(self._nodes["count"][n]),
+                rays=int(self._nodes["count"][i]),
                 events=[(t.face_names[f], KIND_NAMES[k]) for f, k in ev],
                 node=int(n),
             ))
@@ -119,8 +123,9 @@ class Result:
             nodes = np.array([n for n in nodes if self.tree.signature(n) == signature])
             if len(nodes) == 0:
                 raise KeyError(f"no path {signature!r} on detector {detector!r}")
-        m = self._nodes["mueller"][nodes].sum(axis=0).reshape(4, 4)
-        p0 = self._nodes["p0"][nodes].sum()
+        sl = [self._slot[int(n)] for n in nodes]
+        m = self._nodes["mueller"][sl].sum(axis=0).reshape(4, 4)
+        p0 = self._nodes["p0"][sl].sum()
         return m / p0 if p0 > 0 else np.zeros((4, 4))
 
     def path_stokes(self, detector: str, signature: str | None = None) -> np.ndarray:
@@ -129,7 +134,8 @@ class Result:
         if signature is not None:
             nodes = np.array([n for n in nodes if self.tree.signature(n) == signature],
                              dtype=np.int64)
-        return self._nodes["stokes"][nodes].sum(axis=0)
+        sl = [self._slot[int(n)] for n in nodes]
+        return self._nodes["stokes"][sl].sum(axis=0)
 
     # ------------------------------------------------------------------ hits
     def hits(self, detector: str | None = None) -> dict:

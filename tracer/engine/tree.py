@@ -37,7 +37,7 @@ from .interact import split
 from .intersect import nearest_hit
 from .ledger import Ledger
 from .montecarlo import BULK, FACE, choose, uniforms
-from .paths import ABSORB, DETECT, PathTree
+from .paths import ABSORB, DETECT, PathTree, _KeyTable
 
 __all__ = ["Options", "Recorder", "run"]
 
@@ -68,34 +68,45 @@ class Recorder:
         self.hits: list[dict] = []
         self.n_hits = 0
         self.hits_dropped = 0
-        self._node_power = np.zeros(0)
-        self._node_count = np.zeros(0, dtype=np.int64)
-        self._node_stokes = np.zeros((0, 4))
-        self._node_mueller = np.zeros((0, 16))
-        self._node_p0 = np.zeros(0)
+        # aggregates per detection node, in slots (a detect node ends on one detector)
+        self._slots = _KeyTable()
+        self._n_slots = 0
+        self._slot_node = np.zeros(0, dtype=np.int64)
+        self._agg = np.zeros((0, 23))  # power, count, p0, stokes(4), mueller(16)
         self._node_esc = np.zeros(0)
         self.far: list[dict] = []
         self.segments: list[dict] = []
         self.n_segments = 0
         self.events = 0
 
-    def _grow(self, n):
-        m = len(self._node_power)
-        if n <= m:
-            return
-        n = max(n, 2 * m, 1024)
-        pad = n - m
-        self._node_power = np.concatenate([self._node_power, np.zeros(pad)])
-        self._node_p0 = np.concatenate([self._node_p0, np.zeros(pad)])
-        self._node_esc = np.concatenate([self._node_esc, np.zeros(pad)])
-        self._node_count = np.concatenate([self._node_count, np.zeros(pad, np.int64)])
-        self._node_stokes = np.concatenate([self._node_stokes, np.zeros((pad, 4))])
-        self._node_mueller = np.concatenate([self._node_mueller, np.zeros((pad, 16))])
+    def _grow_esc(self, n):
+        m = len(self._node_esc)
+        if n > m:
+            grown = np.zeros(max(n, 2 * m, 1024))
+            grown[:m] = self._node_esc
+            self._node_esc = grown
+
+    def _slot(self, node):
+        unode, inv = np.unique(node, return_inverse=True)
+        ids, added = self._slots.get_or_add(unode, self._n_slots)
+        if added:
+            need = self._n_slots + added
+            if need > len(self._agg):
+                cap = max(need, 2 * len(self._agg), 256)
+                agg = np.zeros((cap, 23))
+                agg[: len(self._agg)] = self._agg
+                self._agg = agg
+                sn = np.zeros(cap, dtype=np.int64)
+                sn[: len(self._slot_node)] = self._slot_node
+                self._slot_node = sn
+            new = ids >= self._n_slots
+            self._slot_node[ids[new]] = unode[new]
+            self._n_slots = need
+        return ids[inv.reshape(-1)]
 
     def detect(self, det, node, position, direction, field, power, wavelength, coherency,
                p0, source, ray_id, mc):
         cs = self.cs
-        self._grow(len(self.tree))
         x = cs.det_x[det]
         y = cs.det_y[det]
         xp, yp = pol.transverse_frame(direction, x)
@@ -105,11 +116,13 @@ class Recorder:
         coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
         stokes = pol.coherency_to_stokes(coh)
         mueller = pol.mueller_from_jones(jones).reshape(len(node), 16)
-        np.add.at(self._node_power, node, power)
-        np.add.at(self._node_count, node, 1)
-        np.add.at(self._node_p0, node, p0)
-        np.add.at(self._node_stokes, node, stokes)
-        np.add.at(self._node_mueller, node, mueller)
+        slot = self._slot(node)
+        cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
+                               mueller], axis=1)
+        order = np.argsort(slot, kind="stable")
+        ss = slot[order]
+        starts = np.nonzero(np.r_[True, ss[1:] != ss[:-1]])[0]
+        self._agg[ss[starts]] += np.add.reduceat(cols[order], starts, axis=0)
         keep = min(len(node), max(self.opts.max_hits - self.n_hits, 0))
         if keep < len(node):
             self.hits_dropped += len(node) - keep
@@ -126,7 +139,7 @@ class Recorder:
             self.n_hits += keep
 
     def escape(self, node, direction, power, wavelength, stokes_args=None):
-        self._grow(len(self.tree))
+        self._grow_esc(len(self.tree))
         np.add.at(self._node_esc, node, power)
         if self.cs.far_fields:
             self.far.append(dict(direction=direction, power=power, wavelength=wavelength,
@@ -142,11 +155,13 @@ class Recorder:
         self.n_segments += k
 
     def node_table(self):
-        n = len(self.tree)
-        self._grow(n)
-        return dict(power=self._node_power[:n], count=self._node_count[:n],
-                    p0=self._node_p0[:n], stokes=self._node_stokes[:n],
-                    mueller=self._node_mueller[:n], escaped=self._node_esc[:n])
+        """Aggregates: per detection node (``nodes`` and columns) and escaped per node."""
+        n = self._n_slots
+        a = self._agg[:n]
+        self._grow_esc(len(self.tree))
+        return dict(nodes=self._slot_node[:n].copy(), power=a[:, 0].copy(),
+                    count=a[:, 1].astype(np.int64), p0=a[:, 2].copy(), stokes=a[:, 3:7].copy(),
+                    mueller=a[:, 7:23].copy(), escaped=self._node_esc[: len(self.tree)].copy())
 
 
 def _progress(opts, total):
