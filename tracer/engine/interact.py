@@ -100,22 +100,42 @@ class Split:
     """Children of an interface event (arrays over the rays that hit interfaces).
 
     ``r_*`` is the reflected child, ``t_*`` the transmitted child (meaningful where
-    ``t_exists``); ``absorbed`` [W] is booked on the face.
+    ``t_exists``); ``absorbed`` [W] is booked on the face. Field matrices are built on
+    demand (:meth:`field`) for the children that survive.
     """
 
     r_dir: np.ndarray
-    r_field: np.ndarray
     r_power: np.ndarray
     r_kind: np.ndarray
     t_exists: np.ndarray
     t_dir: np.ndarray
-    t_field: np.ndarray
     t_power: np.ndarray
     t_kind: np.ndarray
     t_origin: np.ndarray
     t_medium: np.ndarray
     t_face: np.ndarray
     absorbed: np.ndarray
+    s: np.ndarray
+    a_s: np.ndarray
+    a_p: np.ndarray
+    r_amp: tuple
+    t_amp: tuple
+
+    def field(self, child: str, index=slice(None)) -> np.ndarray:
+        """Field matrices (n, 3, 2) of the ``"r"`` or ``"t"`` children at ``index``."""
+        d = self.r_dir if child == "r" else self.t_dir
+        amp = self.r_amp if child == "r" else self.t_amp
+        s = self.s[index]
+        return rebuild(s, np.cross(d[index], s), self.a_s[index], self.a_p[index],
+                       amp[0][index], amp[1][index])
+
+    @property
+    def r_field(self):
+        return self.field("r")
+
+    @property
+    def t_field(self):
+        return self.field("t")
 
 
 class _Coef:
@@ -285,14 +305,13 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     Pp = _jpower(a_p, coherency)
     r_power = co.Rs * Ps + co.Rp * Pp
     t_power = np.where(t_exists, co.Ts * Ps + co.Tp * Pp, 0.0)
-    r_field = rebuild(s, np.cross(r_dir, s), a_s, a_p, co.rs * _unit_amp(co.Rs, co.rs),
-                      co.rp * _unit_amp(co.Rp, co.rp))
-    t_field = rebuild(s, np.cross(t_dir, s), a_s, a_p, co.ts, co.tp)
     absorbed = power - r_power - t_power
     return Split(
-        r_dir=r_dir, r_field=r_field, r_power=r_power, r_kind=r_kind,
-        t_exists=t_exists, t_dir=t_dir, t_field=t_field, t_power=t_power, t_kind=t_kind,
+        r_dir=r_dir, r_power=r_power, r_kind=r_kind,
+        t_exists=t_exists, t_dir=t_dir, t_power=t_power, t_kind=t_kind,
         t_origin=t_origin, t_medium=t_medium, t_face=t_face, absorbed=absorbed,
+        s=s, a_s=a_s, a_p=a_p, r_amp=(co.rs * _unit_amp(co.Rs, co.rs), co.rp * _unit_amp(co.Rp, co.rp)),
+        t_amp=(co.ts, co.tp),
     )
 
 

@@ -315,51 +315,51 @@ class _Tracer:
             rsel = which == 0
             tsel = which == 1
             with np.errstate(divide="ignore", invalid="ignore"):
-                gr = np.sqrt(np.where(sp.r_power > 0, parent_p / sp.r_power, 0.0))
-                gt = np.sqrt(np.where(sp.t_power > 0, parent_p / sp.t_power, 0.0))
-            sp.r_field *= gr[:, None, None]
-            sp.t_field *= gt[:, None, None]
-            r_power = parent_p.copy()
-            t_power = parent_p.copy()
+                gain = {"r": np.sqrt(np.where(sp.r_power > 0, parent_p / sp.r_power, 0.0)),
+                        "t": np.sqrt(np.where(sp.t_power > 0, parent_p / sp.t_power, 0.0))}
+            r_power = parent_p
+            t_power = parent_p
         else:
             led.book(src_i, led.face_absorbed(fi), sp.absorbed)
             rsel = np.ones(len(ii), dtype=bool)
-            tsel = sp.t_exists.copy()
+            tsel = sp.t_exists
             r_power = sp.r_power
             t_power = sp.t_power
         parent_nodes = b.node[ii]
-        p0 = table.power[b.root[ii]]
-        thr = self.opts.power_threshold * p0
+        thr = self.opts.power_threshold * table.power[b.root[ii]]
         ev = events[ii]
         children = []
-        for sel, dirs, fld, pw, kind, org, med, lf in (
-            (rsel, sp.r_dir, sp.r_field, r_power, sp.r_kind, pos[ii], b.medium[ii], fi),
-            (tsel, sp.t_dir, sp.t_field, t_power, sp.t_kind, sp.t_origin, sp.t_medium,
-             sp.t_face),
+        for child, sel, dirs, pw, kind, org, med, lf in (
+            ("r", rsel, sp.r_dir, r_power, sp.r_kind, pos[ii], b.medium[ii], fi),
+            ("t", tsel, sp.t_dir, t_power, sp.t_kind, sp.t_origin, sp.t_medium, sp.t_face),
         ):
-            if not sel.any():
+            k = np.nonzero(sel)[0]
+            if not len(k):
                 continue
-            nodes = tree.extend(parent_nodes[sel], fi[sel], kind[sel])
-            pw = pw[sel]
-            weak = pw < thr[sel]
-            if not self.mc and weak.any():
-                led.book(src_i[sel][weak], led.DISCARDED, pw[weak])
+            nodes = tree.extend(parent_nodes[k], fi[k], kind[k])
+            pk = pw[k]
+            if self.mc:
+                weak = np.zeros(len(k), dtype=bool)
             else:
-                weak = np.zeros(len(pw), dtype=bool)
-            cut = ~weak & (ev[sel] >= self.opts.max_events)
+                weak = pk < thr[k]
+                if weak.any():
+                    led.book(src_i[k[weak]], led.DISCARDED, pk[weak])
+            cut = ~weak & (ev[k] >= self.opts.max_events)
             if cut.any():
-                led.book(src_i[sel][cut], led.CUT, pw[cut])
+                led.book(src_i[k[cut]], led.CUT, pk[cut])
             live = ~(weak | cut)
             if not live.any():
                 continue
-            j = ii[sel][live]
-            c = RayBatch(
-                origin=org[sel][live], direction=dirs[sel][live],
-                wavelength=b.wavelength[j], wl_index=b.wl_index[j], field=fld[sel][live],
-                power=pw[live], medium=med[sel][live], node=nodes[live], events=ev[sel][live],
-                last_face=lf[sel][live], root=b.root[j], opl=b.opl[j],
-            )
-            children.append(c)
+            kl = k[live]
+            j = ii[kl]
+            fld = sp.field(child, kl)
+            if self.mc:
+                fld *= gain[child][kl, None, None]
+            children.append(RayBatch(
+                origin=org[kl], direction=dirs[kl], wavelength=b.wavelength[j],
+                wl_index=b.wl_index[j], field=fld, power=pk[live], medium=med[kl],
+                node=nodes[live], events=ev[kl], last_face=lf[kl], root=b.root[j], opl=b.opl[j],
+            ))
         return RayBatch.concatenate(children)
 
 
