@@ -120,3 +120,15 @@ def test_ledger_closes_on_random_scenes(n_solids, seed, treatments, kappa, thres
     s = res.summary()
     assert s["detectors"]["cam"]["power_w"] == pytest.approx(
         sum(p["power_w"] for p in res.paths("cam")), rel=1e-9, abs=1e-300)
+
+
+def test_detector_record_bridge_conserves_power():
+    from dataclasses import replace
+
+    sc = plate_scene(rays=40, threshold=1e-9)
+    sc = replace(sc, detectors={**sc.detectors, "sky": far_field()})
+    res = trace(sc)
+    rec = res.record("camera")
+    assert rec.total_power == pytest.approx(res.detector_power("camera"), rel=1e-12)
+    ff = res.record("sky")
+    assert ff.total_power == pytest.approx(res.ledger.totals()["escaped_w"], rel=1e-12)

@@ -197,6 +197,32 @@ class Result:
         H, _, _ = np.histogram2d(az, polar, bins=[ae, pe], weights=pw)
         return dict(power=H, azimuth_edges=ae, polar_edges=pe)
 
+    def record(self, name: str, *, keep_hits: bool = False):
+        """A :class:`tracer.detectors.DetectorRecord` of detector ``name`` (maps, per-path
+        centroids) filled from the recorded hits; path ids are path-tree nodes.
+
+        Plane detectors use the kept hits (at most ``max_hits`` in all); far-field
+        detectors all escaped rays (without Stokes vectors).
+        """
+        from .. import detectors as detmod
+
+        spec = self.scene.detectors.get(name)
+        if spec is None:
+            raise KeyError(self._unknown_detector(name))
+        rec = detmod.DetectorRecord(spec, keep_hits=keep_hits)
+        if spec.kind == "plane":
+            h = self.hits(name)
+            if len(h["power"]):
+                rec.add(h["local"][:, 0], h["local"][:, 1], h["power"], h["stokes"],
+                        h["node"].astype(np.int64))
+        else:
+            parts = self._rec.far
+            if parts:
+                rec.add_directions(np.concatenate([p["direction"] for p in parts]),
+                                   np.concatenate([p["power"] for p in parts]), None,
+                                   np.concatenate([p["node"] for p in parts]).astype(np.int64))
+        return rec
+
     def segments(self) -> dict:
         """Recorded segments (start, end [m], power [W], wavelength [m], node)."""
         parts = self._rec.segments
