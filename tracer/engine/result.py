@@ -181,28 +181,18 @@ class Result:
         d = ffs[0] if name is None else next((f for f in ffs if f.name == name), None)
         if d is None:
             raise KeyError(self._unknown_detector(name))
-        parts = self._rec.far
-        dirs = np.concatenate([p["direction"] for p in parts]) if parts else np.zeros((0, 3))
-        pw = np.concatenate([p["power"] for p in parts]) if parts else np.zeros(0)
-        nrm = np.asarray(d.normal, float) / np.linalg.norm(d.normal)
-        x = np.asarray(d.x_axis, float)
-        x = x - x.dot(nrm) * nrm
-        x /= np.linalg.norm(x)
-        y = np.cross(nrm, x)
-        polar = np.arccos(np.clip(dirs @ nrm, -1, 1))
-        az = np.mod(np.arctan2(dirs @ y, dirs @ x), 2 * np.pi)
+        i = self.compiled.far_fields.index(d)
         na, npol = d.pixels
-        ae = np.linspace(0, 2 * np.pi, na + 1)
-        pe = np.linspace(0, np.pi, npol + 1)
-        H, _, _ = np.histogram2d(az, polar, bins=[ae, pe], weights=pw)
-        return dict(power=H, azimuth_edges=ae, polar_edges=pe)
+        return dict(power=self._rec.far_maps[i].copy(),
+                    azimuth_edges=np.linspace(0, 2 * np.pi, na + 1),
+                    polar_edges=np.linspace(0, np.pi, npol + 1))
 
     def record(self, name: str, *, keep_hits: bool = False):
         """A :class:`tracer.detectors.DetectorRecord` of detector ``name`` (maps, per-path
         centroids) filled from the recorded hits; path ids are path-tree nodes.
 
-        Plane detectors use the kept hits (at most ``max_hits`` in all); far-field
-        detectors all escaped rays (without Stokes vectors).
+        Plane detectors use the kept hits, far-field detectors the kept escaped rays
+        (without Stokes vectors); at most ``max_hits`` of each in all.
         """
         from .. import detectors as detmod
 

@@ -75,6 +75,8 @@ class Recorder:
         self._agg = np.zeros((0, 23))  # power, count, p0, stokes(4), mueller(16)
         self._node_esc = np.zeros(0)
         self.far: list[dict] = []
+        self.n_far = 0
+        self.far_maps = [np.zeros(tuple(d.pixels)) for d in cs.far_fields]
         self.segments: list[dict] = []
         self.n_segments = 0
         self.events = 0
@@ -141,9 +143,14 @@ class Recorder:
     def escape(self, node, direction, power, wavelength, stokes_args=None):
         self._grow_esc(len(self.tree))
         np.add.at(self._node_esc, node, power)
+        for i, d in enumerate(self.cs.far_fields):
+            self.far_maps[i] += far_field_bins(d, direction, power)
         if self.cs.far_fields:
-            self.far.append(dict(direction=direction, power=power, wavelength=wavelength,
-                                 node=node))
+            keep = min(len(power), max(self.opts.max_hits - self.n_far, 0))
+            if keep:
+                self.far.append(dict(direction=direction[:keep], power=power[:keep],
+                                     wavelength=wavelength[:keep], node=node[:keep]))
+                self.n_far += keep
 
     def segment(self, start, end, power, wavelength, node):
         room = self.opts.segments - self.n_segments
@@ -162,6 +169,25 @@ class Recorder:
         return dict(nodes=self._slot_node[:n].copy(), power=a[:, 0].copy(),
                     count=a[:, 1].astype(np.int64), p0=a[:, 2].copy(), stokes=a[:, 3:7].copy(),
                     mueller=a[:, 7:23].copy(), escaped=self._node_esc[: len(self.tree)].copy())
+
+
+def far_field_bins(d, directions, power):
+    """Power [W] binned (n_azimuth, n_polar) by direction for far-field detector ``d``.
+
+    Polar angle from the detector's ``normal`` in [0, pi], azimuth from its ``x_axis``
+    towards ``normal x x_axis`` in [0, 2 pi).
+    """
+    nrm = np.asarray(d.normal, float) / np.linalg.norm(d.normal)
+    x = np.asarray(d.x_axis, float)
+    x = x - x.dot(nrm) * nrm
+    x /= np.linalg.norm(x)
+    y = np.cross(nrm, x)
+    polar = np.arccos(np.clip(directions @ nrm, -1, 1))
+    az = np.mod(np.arctan2(directions @ y, directions @ x), 2 * np.pi)
+    na, npol = d.pixels
+    H, _, _ = np.histogram2d(az, polar, bins=[np.linspace(0, 2 * np.pi, na + 1),
+                                              np.linspace(0, np.pi, npol + 1)], weights=power)
+    return H
 
 
 def _progress(opts, total):
