@@ -132,3 +132,25 @@ def test_detector_record_bridge_conserves_power():
     assert rec.total_power == pytest.approx(res.detector_power("camera"), rel=1e-12)
     ff = res.record("sky")
     assert ff.total_power == pytest.approx(res.ledger.totals()["escaped_w"], rel=1e-12)
+
+
+# ---------------------------------------------------------------- detector Stokes frame
+@pytest.mark.parametrize("normal", [(0, 0, -1), (0, 0, 1)])
+def test_free_space_keeps_circular_handedness_at_any_detector(normal):
+    # A circular state keeps its handedness in free propagation, whichever way the
+    # detector's axes are oriented (S3 is a property of the field about its own direction;
+    # common practice, no source). A detector facing the light (normal against the beam)
+    # mirrors its y axis, which changes the sign of S2 only.
+    import tracer
+    from engine_factory import beam, plane, scene
+
+    for stokes in [(1, 0, 0, 1), (1, 0, 0, -1), (1, 0, 1, 0), (1, 1, 0, 0)]:
+        sc = scene(sources=[beam(stokes=stokes)],
+                   detectors=[plane("d", (0, 0, 0.05), normal, two_sided=True, x_axis=(1, 0, 0))])
+        res = tracer.trace(sc)
+        s = res.stokes("d") / res.detector_power("d")
+        facing = normal[2] < 0
+        expected = np.array(stokes, float)
+        if facing:
+            expected[2] *= -1
+        np.testing.assert_allclose(s, expected, atol=1e-12)

@@ -111,13 +111,17 @@ class Recorder:
         cs = self.cs
         x = cs.det_x[det]
         y = cs.det_y[det]
-        xp, yp = pol.transverse_frame(direction, x)
-        flip = np.einsum("ij,ij->i", yp, y) < 0
-        jones = pol.jones_in_frame(field, xp, yp)
-        jones[flip, 1, :] *= -1.0  # express in the detector's own (x, y) handedness
+        # Jones matrices in the ray's right-handed transverse frame (x' along the detector's
+        # x axis, y' = k x x'), so S3 keeps its physical handedness; where y' points away from
+        # the detector's y axis (a detector facing the light) only S2 changes sign, so that
+        # S2 > 0 is still towards the detector's y axis.
+        jones, flip = pol.detector_jones(field, x, y, directions=direction)
         coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
         stokes = pol.coherency_to_stokes(coh)
-        mueller = pol.mueller_from_jones(jones).reshape(len(node), 16)
+        stokes[flip, 2] *= -1.0
+        mueller = pol.mueller_from_jones(jones)
+        mueller[flip, 2, :] *= -1.0
+        mueller = mueller.reshape(len(node), 16)
         slot = self._slot(node)
         cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
                                mueller], axis=1)
