@@ -32,7 +32,7 @@ EXAMPLES = """examples:
   tracer sweep scenes/tir_prism_pair.toml --vary solids.upper.position[0] 20.0035 20.01 8 --rays 21
   tracer sweep pair.toml --vary solids.upper.mate.gap 0.05um 1um 20 --out results/gap --workers 2
   tracer sweep scenes/penta_prism_laser.toml --values solids.penta.rotation[2] "0 deg,1 deg,2 deg"
-  tracer sweep pair.toml --vary solids.upper.mate.gap 0.1um 1um 10 --scheduler tcp://10.0.0.5:8786
+  tracer sweep pair.toml --vary solids.upper.mate.gap 0.1um 1um 10 --scheduler tcp://scheduler.example:8786
   tracer sweep pair.toml --vary solids.lower.rotation[2] "-1 deg" "1 deg" 9
   (a negative value with a unit needs the space: "-1 deg", not -1deg)
 
@@ -71,7 +71,7 @@ def add_parallel_options(parser) -> None:
     g.add_argument("--workers", type=_workers, metavar="N",
                    help="local worker processes (0: one per CPU; default 1)")
     g.add_argument("--scheduler", metavar="ADDRESS",
-                   help="run on a Dask cluster, e.g. tcp://10.0.0.5:8786 (needs dask[distributed])")
+                   help="run on a Dask cluster, e.g. tcp://scheduler.example:8786 (needs dask[distributed])")
     g.add_argument("--start-method", choices=("spawn", "fork", "forkserver"), default="spawn",
                    help="how local workers start (default spawn)")
 

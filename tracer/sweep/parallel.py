@@ -289,7 +289,7 @@ class DaskBackend:
     Parameters
     ----------
     address : str, optional
-        Scheduler address, e.g. ``"tcp://10.0.0.5:8786"``; the backend opens (and
+        Scheduler address, e.g. ``"tcp://scheduler.example:8786"``; the backend opens (and
         :meth:`close` closes) its own client.
     client : distributed.Client, optional
         An existing client instead (it stays open).
