@@ -14,11 +14,24 @@ The ledger is a dense table ``books[source, account]`` [W]. Accounts are
 Booking is one ``np.bincount`` per call, so the cost does not depend on how many
 accounts there are.
 
+Beside the accounts (where power ends), the ledger keeps a second, non-closing table
+``tunnel[source, gap, side]`` [W]: the power that crossed each gap in a tunnel event
+(frustrated TIR), side 0 from the gap's solid A to B, side 1 from B to A. It is booked
+at the moment of crossing, before any threshold or event-cap test on the tunnelled
+child, so it is the exact power that leaked through the gap whatever happens to it
+afterwards; a ray that tunnels through the gap twice is counted twice (once per
+crossing and direction).
+
 >>> led = Ledger(["src"], detectors=["cam"], faces=["a.x"], bulks=["ambient", "a"])
 >>> led.book(np.array([0, 0]), led.detector(0), np.array([0.25, 0.5]))
 >>> led.book(np.array([0]), led.DISCARDED, np.array([0.25]))
 >>> led.totals()["detected_w"], led.totals()["discarded_w"]
 (0.75, 0.25)
+>>> led = Ledger(["src"], detectors=[], faces=["a.h", "b.h"], bulks=["ambient", "a", "b"],
+...              gaps=[("g", 0, 1)])
+>>> led.book_tunnels(np.array([0, 0]), np.array([0, 1]), np.array([3, 3]), np.array([0.5, 0.25]))
+>>> led.tunnelled("g", side=0), led.tunnelled("g", side=1), led.tunnelled()
+(0.5, 0.25, 0.75)
 """
 
 from __future__ import annotations
@@ -41,13 +54,18 @@ class Ledger:
         Names of every solid face (global face ids ``0 .. F-1``).
     bulks : list of str
         ``["ambient", solid names...]`` (bulk index = medium + 1).
+    gaps : list of (str, int, int), optional
+        ``(name, face_a, face_b)`` per gap, with the global ids of its two faces.
     """
 
     DISCARDED = 0
     CUT = 1
     LOST = 2
 
-    def __init__(self, sources, *, detectors, faces, bulks):
+    #: Event-kind code of a tunnel event (see :mod:`tracer.engine.paths`).
+    TUNNEL_KIND = 3
+
+    def __init__(self, sources, *, detectors, faces, bulks, gaps=()):
         self.sources = list(sources)
         self.detectors = list(detectors)
         self.faces = list(faces)
@@ -59,6 +77,16 @@ class Ledger:
         self.n_accounts = self._e0 + len(self.faces) + 1
         self.books = np.zeros((len(self.sources), self.n_accounts))
         self.launched = np.zeros(len(self.sources))
+        gaps = list(gaps)
+        self.gaps = [str(g[0]) for g in gaps]
+        self.gap_faces = [(int(g[1]), int(g[2])) for g in gaps]
+        # face id -> gap index and side (0: face of solid A, 1: face of solid B)
+        self._face_gap = np.full(len(self.faces) + 1, -1, dtype=np.int64)
+        self._face_side = np.zeros(len(self.faces) + 1, dtype=np.int64)
+        for gi, (fa, fb) in enumerate(self.gap_faces):
+            self._face_gap[[fa, fb]] = gi
+            self._face_side[[fa, fb]] = (0, 1)
+        self.tunnel = np.zeros((len(self.sources), len(self.gaps), 2))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -91,6 +119,50 @@ class Ledger:
             minlength=self.books.size,
         ).reshape(self.books.shape)
 
+    def book_tunnels(self, source, face, kind, power) -> None:
+        """Add the power [W] of children of kind tunnel to the gap table.
+
+        Parameters
+        ----------
+        source, face, kind : (N,) int
+            Source index, global id of the face the parent met (the face the wave
+            tunnels from) and event kind of each child; only tunnel children on gap
+            faces are booked.
+        power : (N,) float [W]
+            Power each child carries across.
+        """
+        if not self.gaps:
+            return
+        face = np.asarray(face, dtype=np.int64)
+        sel = (np.asarray(kind) == self.TUNNEL_KIND) & (face >= 0) & (face < len(self.faces))
+        if not sel.any():
+            return
+        f = face[sel]
+        g = self._face_gap[f]
+        ok = g >= 0
+        if not ok.all():
+            f, g = f[ok], g[ok]
+            sel[np.nonzero(sel)[0][~ok]] = False
+        src = np.asarray(source, dtype=np.int64)[sel]
+        flat = (src * len(self.gaps) + g) * 2 + self._face_side[f]
+        self.tunnel += np.bincount(flat, weights=np.asarray(power, dtype=float)[sel],
+                                   minlength=self.tunnel.size).reshape(self.tunnel.shape)
+
+    def tunnelled(self, gap=None, *, source=None, side=None) -> float:
+        """Power [W] that tunnelled through ``gap`` (name or index; all gaps when None).
+
+        ``source`` (index) and ``side`` (0: A to B, 1: B to A) restrict the sum.
+        """
+        t = self.tunnel
+        if source is not None:
+            t = t[source : source + 1]
+        if gap is not None:
+            gi = self.gaps.index(gap) if isinstance(gap, str) else int(gap)
+            t = t[:, gi : gi + 1]
+        if side is not None:
+            t = t[:, :, int(side)]
+        return float(t.sum())
+
     def launch(self, source, power) -> None:
         """Record launched source power [W]."""
         self.launched += np.bincount(
@@ -101,6 +173,7 @@ class Ledger:
         """Add the books of ``other`` (same layout)."""
         self.books += other.books
         self.launched += other.launched
+        self.tunnel += other.tunnel
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):

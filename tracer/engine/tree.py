@@ -368,6 +368,8 @@ class _Tracer:
                 continue
             nodes = tree.extend(parent_nodes[k], fi[k], kind[k])
             pk = pw[k]
+            if child == "t":  # power crossing a gap (tunnel), before threshold and cap
+                led.book_tunnels(src_i[k], fi[k], kind[k], pk)
             if self.mc:
                 weak = np.zeros(len(k), dtype=bool)
             else:
@@ -413,7 +415,9 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
     """
     names = [name for name, _ in sources]
     ledger = Ledger(names, detectors=cs.detector_names, faces=cs.face_names[: cs.n_faces],
-                    bulks=["ambient"] + cs.solid_names)
+                    bulks=["ambient"] + cs.solid_names,
+                    gaps=[(g.name, cs.face_index[f"{g.solid_a}.{g.face_a}"],
+                           cs.face_index[f"{g.solid_b}.{g.face_b}"]) for g in cs.gaps])
     tree = PathTree(names, cs.face_names)
     rec = Recorder(cs, tree, opts)
     wl = np.asarray(wavelengths, dtype=float)
