@@ -65,6 +65,76 @@ class Result:
             return self.ledger.totals()["escaped_w"]
         raise KeyError(self._unknown_detector(name))
 
+    # ------------------------------------------------------------------ gaps
+    @property
+    def gap_names(self) -> list[str]:
+        """Gaps of the traced scene, in scene order."""
+        return list(getattr(self.ledger, "gaps", []))
+
+    def tunnelled_power(self, gap: str | None = None, *, source: str | None = None,
+                        direction: str | None = None) -> float:
+        """Power [W] that tunnelled through ``gap`` (every gap when None).
+
+        Booked by the engine at each tunnel event (frustrated TIR across a gap beyond
+        its medium's critical angle): the power of the tunnelled child as it crosses,
+        whatever happens to it afterwards (detected, escaped, absorbed, discarded or
+        cut). Every crossing counts, so light that tunnels A to B and later B to A is
+        counted in both directions. Exact in tree mode (down to the power threshold:
+        children are booked before the threshold test, but discarded rays tunnel no
+        further); an unbiased estimate in Monte Carlo mode.
+
+        Parameters
+        ----------
+        gap : str, optional
+            Gap name.
+        source : str, optional
+            Only the power of this source.
+        direction : {"a->b", "b->a"}, optional
+            Only crossings from the gap's solid A into solid B, or back.
+        """
+        led = self.ledger
+        gi = None
+        if gap is not None:
+            if gap not in self.gap_names:
+                raise KeyError(f"unknown gap {gap!r}; the scene has "
+                               f"{', '.join(self.gap_names) or 'no gap'}")
+            gi = self.gap_names.index(gap)
+        si = None
+        if source is not None:
+            if source not in led.sources:
+                raise KeyError(f"unknown source {source!r}; sources: {', '.join(led.sources)}")
+            si = led.sources.index(source)
+        side = None
+        if direction is not None:
+            key = str(direction).replace(" ", "").lower()
+            sides = {"a->b": 0, "ab": 0, "a_to_b": 0, "b->a": 1, "ba": 1, "b_to_a": 1}
+            if key not in sides:
+                raise ValueError(f'direction={direction!r}: expected "a->b" or "b->a"')
+            side = sides[key]
+        if gi is None and not self.gap_names:
+            return 0.0
+        return led.tunnelled(gi, source=si, side=side)
+
+    @property
+    def hits_dropped(self) -> int:
+        """Detector hits not kept individually because ``max_hits`` was reached.
+
+        Counts plane-detector hits and, when the scene has far-field detectors, the
+        escaped rays not kept for their records. Powers, ledger and path aggregates
+        are always complete; only hit lists, maps and landing statistics built from
+        kept hits (``hits``, ``record``, centroids, RMS radii) miss these.
+        """
+        return int(self._rec.hits_dropped) + int(self._rec.far_dropped)
+
+    def hits_dropped_on(self, detector: str) -> int:
+        """Hits of ``detector`` that were not kept (see :attr:`hits_dropped`)."""
+        cs = self.compiled
+        if detector in cs.detector_names:
+            return int(self._rec.dropped_per_detector[cs.detector_names.index(detector)])
+        if detector in [d.name for d in cs.far_fields]:
+            return int(self._rec.far_dropped)
+        raise KeyError(self._unknown_detector(detector))
+
     def _unknown_detector(self, name):
         from ..errors import TracerError  # noqa: F401
 
@@ -227,9 +297,11 @@ class Result:
 
         Keys: ``title``, ``mode``, ``seed``, ``events``, ``source_power_w``,
         ``sources`` (name -> power_w, rays), ``detectors`` (name -> power_w, hits,
-        paths [signature, power_w, reflections, rays]), ``ledger`` (source_w,
-        detected_w, absorbed_w, escaped_w, discarded_w, cut_w, residual_w and the
-        breakdowns; ``per_source``).
+        paths [signature, power_w, reflections, rays], hits_dropped), ``ledger``
+        (source_w, detected_w, absorbed_w, escaped_w, discarded_w, cut_w, residual_w
+        and the breakdowns; ``per_source``), ``gaps`` (name -> faces, tunnelled_w,
+        a_to_b_w, b_to_a_w [W], per_source; see :meth:`tunnelled_power`) and
+        ``hits_dropped`` (see :attr:`hits_dropped`).
         """
         led = self.ledger
         out = dict(
@@ -253,6 +325,7 @@ class Result:
                 paths=[{k: p[k] for k in ("signature", "power_w", "reflections", "rays")}
                        for p in ps[:max_paths]],
                 paths_total=len(ps),
+                hits_dropped=self.hits_dropped_on(name),
             )
         for d in self.compiled.far_fields:
             out["detectors"][d.name] = dict(kind="far_field", power_w=self.detector_power(d.name),
@@ -260,6 +333,17 @@ class Result:
         ledger = led.breakdown()
         ledger["per_source"] = {n: led.totals(i) for i, n in enumerate(led.sources)}
         out["ledger"] = ledger
+        out["gaps"] = {}
+        for gi, gname in enumerate(self.gap_names):
+            fa, fb = led.gap_faces[gi]
+            out["gaps"][gname] = dict(
+                faces=[led.faces[fa], led.faces[fb]],
+                tunnelled_w=led.tunnelled(gi),
+                a_to_b_w=led.tunnelled(gi, side=0),
+                b_to_a_w=led.tunnelled(gi, side=1),
+                per_source={n: led.tunnelled(gi, source=i) for i, n in enumerate(led.sources)},
+            )
+        out["hits_dropped"] = self.hits_dropped
         return out
 
     def __repr__(self) -> str:

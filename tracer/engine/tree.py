@@ -68,6 +68,8 @@ class Recorder:
         self.hits: list[dict] = []
         self.n_hits = 0
         self.hits_dropped = 0
+        self.dropped_per_detector = np.zeros(len(cs.detector_names), dtype=np.int64)
+        self.far_dropped = 0
         # aggregates per detection node, in slots (a detect node ends on one detector)
         self._slots = _KeyTable()
         self._n_slots = 0
@@ -132,6 +134,8 @@ class Recorder:
         keep = min(len(node), max(self.opts.max_hits - self.n_hits, 0))
         if keep < len(node):
             self.hits_dropped += len(node) - keep
+            self.dropped_per_detector += np.bincount(
+                det[keep:], minlength=len(self.dropped_per_detector))
         if keep:
             sl = slice(0, keep)
             rel = position[sl] - cs.det_position[det[sl]]
@@ -151,6 +155,7 @@ class Recorder:
             self.far_maps[i] += far_field_bins(d, direction, power)
         if self.cs.far_fields:
             keep = min(len(power), max(self.opts.max_hits - self.n_far, 0))
+            self.far_dropped += len(power) - keep
             if keep:
                 self.far.append(dict(direction=direction[:keep], power=power[:keep],
                                      wavelength=wavelength[:keep], node=node[:keep]))
