@@ -377,3 +377,41 @@ def test_index_models_accepted_and_bad_index_rejected():
         films.stack(n_in="glass", layers=[], n_out=1.52, wavelength=WL, angle=0.2)
     with pytest.raises(TracerError, match="index model"):
         fresnel.coefficients(n1=Const(), n2=1.5, angle=0.1)
+
+
+def test_lossy_incident_medium_stack_matches_tmm():
+    # Reference: tmm.coh_tmm (S. J. Byrnes, arXiv:1603.02720, 2016) with a dissipative incoming
+    # medium: th_0 complex with n0 sin th_0 = Re(n0) sin(theta) real, on tmm's forward branch.
+    rng = np.random.default_rng(21)
+    for _ in range(150):
+        n_in = rng.uniform(1.3, 2.2) + 1j * rng.choice([1e-6, 1e-3, 0.05])
+        L = int(rng.integers(0, 4))
+        ns = [rng.uniform(1.0, 2.4) + 1j * rng.choice([0.0, 0.0, 0.2]) for _ in range(L)]
+        ds = list(rng.uniform(10e-9, 400e-9, L))
+        n_out = rng.uniform(1.0, 2.0) + 1j * rng.choice([0.0, 0.1])
+        th = rng.uniform(0, np.pi / 2 * 0.99)
+        s = films.stack(n_in=n_in, layers=list(zip(ns, ds)), n_out=n_out, wavelength=WL, angle=th)
+        th0 = np.lib.scimath.arcsin(n_in.real * np.sin(th) / n_in)
+        if not tmm.is_forward_angle(n_in, th0):
+            th0 = np.pi - th0
+        for pol, r, t, R, T in (("s", s.rs, s.ts, s.Rs, s.Ts), ("p", s.rp, s.tp, s.Rp, s.Tp)):
+            ref = tmm.coh_tmm(pol, [n_in, *ns, n_out], [np.inf, *ds, np.inf], th0, WL)
+            assert r == pytest.approx(ref["r"], abs=1e-10)
+            assert t == pytest.approx(ref["t"], abs=1e-10)
+            assert R == pytest.approx(ref["R"], abs=1e-10)
+            assert T == pytest.approx(ref["T"], abs=1e-10)
+        if L == 0:  # no layers: the bare interface of tracer.fresnel
+            c = fresnel.coefficients(n1=n_in, n2=n_out, angle=th)
+            assert s.rs == pytest.approx(c.rs, abs=1e-14) and s.Tp == pytest.approx(c.Tp, abs=1e-14)
+
+
+def test_lossy_incident_medium_matched_stack_is_transparent():
+    # A layer of the incidence medium itself, between it and the same medium, changes nothing:
+    # r = 0, t = exp(i k0 d q) (common practice, no source); the complex angle of the incidence
+    # medium makes the stack exactly invisible, rays in and out alike.
+    n = 1.7 + 0.01j
+    th = np.linspace(0, 1.4, 8)
+    s = films.stack(n_in=n, layers=[(n, 200e-9)], n_out=n, wavelength=WL, angle=th)
+    np.testing.assert_allclose(np.abs(s.rs), 0, atol=1e-15)
+    np.testing.assert_allclose(s.ts, np.exp(1j * 2 * np.pi / WL * 200e-9 * s.ncos_in), rtol=1e-13)
+    np.testing.assert_allclose(s.ncos_out, s.ncos_in, rtol=0)

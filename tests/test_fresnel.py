@@ -146,3 +146,97 @@ def test_real_fast_path_same_branch_as_complex_root():
     slow = np.array([fresnel._forward_root(np.complex128(v)) for v in z])
     np.testing.assert_array_equal(fast, slow)
     assert np.all(fast.imag >= 0) and np.all(fast.real >= 0)
+
+
+# --- absorbing medium of incidence ---------------------------------------------------------
+
+
+def _tmm_incident_angle(n1, theta):
+    """tmm's th_0 for our real angle: n1 sin th_0 = Re(n1) sin theta (real), forward branch.
+
+    tmm (S. J. Byrnes, arXiv:1603.02720, 2016) asks for a complex th_0 with n0 sin th_0 real
+    for a dissipative incoming medium (coh_tmm docstring) and checks it with is_forward_angle.
+    """
+    th0 = np.lib.scimath.arcsin(n1.real * np.sin(theta) / n1)
+    if not tmm.is_forward_angle(n1, th0):
+        th0 = np.pi - th0
+    return th0
+
+
+def test_lossy_incident_medium_matches_tmm():
+    # Reference: tmm.coh_tmm for two semi-infinite media, slightly to clearly lossy n1.
+    rng = np.random.default_rng(11)
+    checked = 0
+    while checked < 300:
+        n1 = rng.uniform(1.3, 2.4) + 1j * rng.choice([1e-9, 1e-6, 1e-3, 0.05, 0.3])
+        n2 = rng.uniform(1.0, 2.4) + 1j * rng.choice([0.0, 0.0, rng.uniform(0, 0.5)])
+        th = rng.uniform(0, np.pi / 2 * 0.999)
+        crit = fresnel.critical_angle(n1=n1, n2=n2)
+        if np.isfinite(crit) and abs(th - crit) < 1e-4:  # ill-conditioned in tmm's arcsin/cos
+            continue
+        c = fresnel.coefficients(n1=n1, n2=n2, angle=th)
+        th0 = _tmm_incident_angle(n1, th)
+        for pol, r, t, R, T in (("s", c.rs, c.ts, c.Rs, c.Ts), ("p", c.rp, c.tp, c.Rp, c.Tp)):
+            ref = tmm.coh_tmm(pol, [n1, n2], [np.inf, np.inf], th0, 633e-9)
+            assert r == pytest.approx(ref["r"], abs=1e-10)
+            assert t == pytest.approx(ref["t"], abs=1e-10)
+            assert R == pytest.approx(ref["R"], abs=1e-10)
+            assert T == pytest.approx(ref["T"], abs=1e-10)
+        checked += 1
+
+
+def test_lossy_incident_medium_review_case_is_physical():
+    # The case found in review: n1 = 1.85 + 1e-6 i into air. Away from grazing incidence
+    # the coefficients are those of the lossless n1 = 1.85 up to O(kappa / (n cos^2)):
+    # below the critical angle (arcsin(1/1.85) = 32.7 deg) R + T = 1, beyond it T = 0 and
+    # R = 1 (lossless limit: common practice, no source).
+    th = np.radians(np.concatenate([np.linspace(0, 32.5, 30), np.linspace(33, 80, 30)]))
+    c = fresnel.coefficients(n1=1.85 + 1e-6j, n2=1.0, angle=th)
+    lossless = fresnel.coefficients(n1=1.85, n2=1.0, angle=th)
+    for got, ref in ((c.Rs, lossless.Rs), (c.Rp, lossless.Rp), (c.Ts, lossless.Ts), (c.Tp, lossless.Tp)):
+        np.testing.assert_allclose(got, ref, atol=1e-4)
+    grazing = fresnel.coefficients(n1=1.85 + 1e-6j, n2=1.0, angle=np.radians(np.linspace(80, 90, 20)))
+    assert np.all(grazing.Rs <= 1) and np.all(np.abs(grazing.rp) < 1 + 1e-5)
+    assert np.all(c.Ts >= 0) and np.all(c.Tp >= 0)
+    assert np.all(np.abs(c.rs) < 1 + 1e-5) and np.all(np.abs(c.rp) < 1 + 1e-5)
+    beyond = th > np.radians(33)
+    assert np.all(c.Ts[beyond] == 0) and np.all(c.Tp[beyond] == 0)
+
+
+def test_lossy_incident_medium_energy_balance():
+    # R + T + A = 1 where A is the interference of the incident and reflected waves in the
+    # absorbing medium: the normal Poynting flux of E = e^{iqz} + r e^{-iqz} just before the
+    # face is Re(q)(1 - |r|^2) + 2 Im(q) Im(r) for s (q = n1 cos th1), and the same with
+    # w = q / n1^2 for p carried by H (derived here; it is tmm's power_entering_from_r).
+    # With a lossless n2 all of that flux is transmitted.
+    rng = np.random.default_rng(12)
+    n1 = rng.uniform(1.3, 2.4, 400) + 1j * rng.choice([1e-6, 1e-3, 0.05, 0.3], 400)
+    n2 = rng.uniform(1.0, 2.4, 400)
+    th = rng.uniform(0, np.pi / 2 * 0.999, 400)
+    c = fresnel.coefficients(n1=n1, n2=n2, angle=th)
+    q = c.ncos_in
+    w = q / n1**2
+    flux_s = 1 - c.Rs + 2 * q.imag * c.rs.imag / q.real
+    flux_p = 1 - c.Rp + 2 * w.imag * c.rp.imag / w.real
+    np.testing.assert_allclose(c.Ts, flux_s, atol=1e-12)
+    np.testing.assert_allclose(c.Tp, flux_p, atol=1e-12)
+    np.testing.assert_allclose(c.As, 1 - c.Rs - c.Ts, atol=0)
+    for i in range(0, 400, 40):
+        for pol, A in (("s", c.As[i]), ("p", c.Ap[i])):
+            ref = tmm.coh_tmm(pol, [n1[i], n2[i]], [np.inf, np.inf], _tmm_incident_angle(n1[i], th[i]), 633e-9)
+            assert A == pytest.approx(1 - ref["R"] - ref["power_entering"], abs=1e-10)
+    # the interference term vanishes with the loss: |A| = O(Im q / Re q) ~ kappa / (n cos^2)
+    small = n1.imag <= 1e-3
+    bound = 4 * n1.imag / (n1.real * np.cos(th) ** 2)
+    assert np.all(np.abs(c.As[small]) < bound[small]) and np.all(np.abs(c.Ap[small]) < bound[small])
+
+
+def test_lossy_incident_invariant_is_real():
+    # n1 sin th1 = Re(n1) sin th for the complex angle th1 (our definition), forward branch:
+    # Im(n1 cos th1) > 0 (the wave decays along its way, tmm's is_forward_angle).
+    n1 = 1.6 + 0.02j
+    th = np.linspace(0, 1.5, 7)
+    q = fresnel.ncos_of(n=n1, cos_angle=np.cos(th))
+    np.testing.assert_allclose(q**2 + (n1.real * np.sin(th)) ** 2, n1**2, rtol=1e-14)
+    assert np.all(q.imag > 0) and np.all(q.real > 0)
+    assert fresnel.ncos_of(n=1.6, cos_angle=0.5) == 0.8

@@ -7,7 +7,11 @@ in the order they are listed. The tangential wave vector is the invariant
 forward-wave branch of :mod:`tracer.fresnel` (decaying field beyond the critical angle or
 in an absorbing medium), and all sign and power conventions are those of
 :mod:`tracer.fresnel`: with no layers :func:`stack` equals
-:func:`tracer.fresnel.coefficients`.
+:func:`tracer.fresnel.coefficients`. For an absorbing medium of incidence the invariant
+is real, ``β = Re(n_in) sin θ`` with ``θ`` the given (real) angle, and ``q_in`` is the
+forward root of ``n_in^2 - β^2`` (the complex angle of :mod:`tracer.fresnel`, section
+"Absorbing medium of incidence"); ``A = 1 - R - T`` then also holds the interference of
+the incident and reflected waves in that medium.
 
 Method (coherent)
 -----------------
@@ -46,8 +50,9 @@ pass transmission ``P = |exp(iδ)|^2``, from the back of the stack towards the f
 
 (for one layer with bare faces ``T = T1 T2 / (1 - R1 R2)``; the same sum as the power
 transfer matrices of section 6 of [3]). A layer forced incoherent beyond its critical
-angle passes nothing (no tunnelling): keep such layers coherent (as
-:func:`tracer.coatings.gap_response` does automatically).
+angle passes nothing (no tunnelling): keep such layers coherent, as
+:func:`tracer.coatings.gap_response` does per ray in both its ``auto`` and
+``incoherent`` modes (an evanescent field has no phase to lose).
 
 Amplitudes in incoherent mode are not defined physically. We return
 ``r = sqrt(R) · exp(i arg r_1)`` with ``r_1`` the coherent reflection of the first sub-stack
@@ -376,7 +381,8 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
     wavelength : array_like float [m]
         Vacuum wavelength.
     angle : array_like float [rad], optional
-        Angle of incidence inside ``n_in``, in ``[0, π/2]``.
+        Angle of incidence inside ``n_in``, in ``[0, π/2]`` (for an absorbing ``n_in``: the
+        real angle fixing the invariant ``Re(n_in) sin θ``, see :mod:`tracer.fresnel`).
     cos_angle : array_like float [1], optional
         Its cosine, instead of ``angle``.
     coherent : bool or sequence of bool (or bool arrays over the rays), default True
@@ -422,10 +428,19 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
 
     k0 = (2 * np.pi) / wl
     work = shape if shape else (1,)  # internal arrays: full ray shape, at least 1-d
-    q_in = n_in * np.broadcast_to(c_in, work)
-    # (n cos θ)^2 = (n^2 - n_in^2) + q_in^2: invariant n_in sin θ_in, exact for matched media
-    q_in2 = q_in * q_in
-    n_in2 = n_in * n_in
+    c_w = np.broadcast_to(c_in, work)
+    lossy_in = n_in.imag != 0
+    if not np.any(lossy_in):
+        q_in = n_in * c_w
+        # (n cos θ)^2 = (n^2 - n_in^2) + q_in^2: invariant n_in sin θ_in, exact for matched media
+        q_in2 = q_in * q_in
+        n_in2 = n_in * n_in
+    else:
+        # absorbing medium of incidence: real invariant β = Re(n_in) sin θ, complex angle
+        # in n_in (tracer.fresnel, "Absorbing medium of incidence")
+        n_in2 = n_in.real * n_in.real
+        q_in2 = (n_in.real * c_w) ** 2
+        q_in = np.where(lossy_in, _forward_root((n_in * n_in - n_in2) + q_in2), n_in * c_w)
     q_out = _forward_root((n_out * n_out - n_in2) + q_in2)
     ldata = []
     for n, d in lay:

@@ -38,6 +38,29 @@ Angles are in radians inside the medium of incidence; every function also takes
 ``cos_angle=`` instead of ``angle=`` (the engine has cosines; this avoids the loss of
 precision of ``arccos`` near normal incidence).
 
+Absorbing medium of incidence
+-----------------------------
+For ``n1 = n + iκ`` with ``κ > 0`` the given real ``angle`` θ is the direction of the wave
+read with the real part of the index: the invariant (tangential index) is taken real,
+``β = n1 sin θ1 = Re(n1) sin θ``, so that the incident intensity does not vary along the
+face (the plane-wave problem ``tmm`` solves [2]). The angle used in the formulas is then
+the **complex** angle ``θ1`` with ``n1 sin θ1 = β``, i.e.
+``n1 cos θ1 = sqrt(n1^2 - β^2) = sqrt((n1^2 - Re(n1)^2) + (Re(n1) cos θ)^2)`` on the
+forward-wave branch above (the incidence medium included, as in ``tmm``'s ``list_snell``);
+``θ1 = θ`` when ``κ = 0``. In ``tmm`` terms: ``coh_tmm(pol, [n1, ...], ...,
+th_0=arcsin(Re(n1) sin θ / n1), ...)`` with ``th_0`` on its forward branch. Every
+other medium uses the same ``β``; the critical angle is ``arcsin(Re(n2) / Re(n1))`` for a
+lossless ``n2``.
+
+In an absorbing medium of incidence the incident and reflected waves interfere in the
+normal power flux, so the flux entering the face is not ``1 - R`` (Section 4 of [2]):
+for s it is ``1 - Rs + 2 Im(q1) Im(rs) / Re(q1)`` (``q1 = n1 cos θ1``), for p
+``1 - Rp + 2 Im(w1) Im(rp) / Re(w1)`` with ``w1 = q1 / n1^2`` (the Poynting flux of the
+two waves, derived here; ``tmm``'s ``power_entering``). ``A = 1 - R - T`` then holds
+this interference term too: of order ``Im(q1) / Re(q1) ~ κ / (n cos^2 θ)`` (large only
+near grazing incidence), of either sign, zero for ``κ = 0``. ``|r|`` may exceed 1 there
+(p) without any gain: ``R = |r|^2`` is not the reflected share of the flux.
+
 References
 ----------
 [1] M. Born and E. Wolf, *Principles of Optics*, 7th ed., Cambridge University Press,
@@ -97,10 +120,13 @@ class Coefficients:
     Rs, Rp, Ts, Tp : float ndarray [1]
         Reflected and transmitted power fractions.
     As, Ap : float ndarray [1]
-        Absorbed fraction ``1 - R - T`` (zero for a bare interface between lossless media).
+        Absorbed fraction ``1 - R - T`` (zero for a bare interface between lossless media;
+        with an absorbing medium of incidence it also holds the interference term of the
+        incident and reflected waves, module docstring).
     ncos_in, ncos_out : complex ndarray [1]
         ``n cos θ`` in the medium of incidence and in the exit medium (branch as in the
-        module docstring); ``Re(ncos_out) == 0`` means no propagating transmitted wave.
+        module docstring; complex angle in an absorbing medium of incidence);
+        ``Re(ncos_out) == 0`` means no propagating transmitted wave.
     n_in, n_out : complex ndarray [1]
         Indices of the medium of incidence and of the exit medium.
     """
@@ -200,33 +226,69 @@ def _forward_root(z: np.ndarray) -> np.ndarray:
     return q
 
 
-def _ncos_in_medium(n: np.ndarray, n1: np.ndarray, q1: np.ndarray) -> np.ndarray:
-    """``n cos θ`` in a medium of index ``n`` through the invariant ``n1 sin θ1``.
+def _ncos2(n: np.ndarray, n_ref: np.ndarray, q_ref: np.ndarray) -> np.ndarray:
+    """``(n cos θ)^2`` in a medium of index ``n`` for the real invariant ``β``.
 
-    ``(n cos θ)^2 = n^2 - n1^2 sin^2 θ1 = (n^2 - n1^2) + (n1 cos θ1)^2``: written this way
-    the result is exact for a medium matching the medium of incidence and keeps full
-    relative precision near grazing incidence. ``q1 = n1 cos θ1``.
+    ``n_ref = Re(n1)`` and ``q_ref = Re(n1) cos θ`` (real) come from the medium of
+    incidence, ``β^2 = n_ref^2 - q_ref^2``, and
+    ``(n cos θ)^2 = n^2 - β^2 = (n^2 - n_ref^2) + q_ref^2``: written this way the result is
+    exact for a medium matching the medium of incidence and keeps full relative
+    precision near grazing incidence.
     """
-    return _forward_root((n * n - n1 * n1) + q1 * q1)
+    return (n * n - n_ref * n_ref) + q_ref * q_ref
+
+
+def _ncos_in_medium(n: np.ndarray, n_ref: np.ndarray, q_ref: np.ndarray) -> np.ndarray:
+    """``n cos θ`` (forward branch) for the invariant of :func:`_ncos2`."""
+    return _forward_root(_ncos2(n, n_ref, q_ref))
+
+
+def _incident(n1: np.ndarray, c1: np.ndarray):
+    """``(n_ref, q_ref, q1)`` of the medium of incidence (module docstring).
+
+    ``n_ref = Re(n1)``, ``q_ref = Re(n1) cos θ`` (real) fix the invariant
+    ``β = Re(n1) sin θ``; ``q1 = n1 cos θ1`` is ``n1 c1`` for a lossless ``n1`` and the
+    forward root of ``n1^2 - β^2`` for an absorbing one.
+    """
+    n_ref = n1.real
+    q_ref = n_ref * c1
+    q1 = n1 * c1
+    lossy = n1.imag != 0
+    if np.any(lossy):
+        q1 = np.where(lossy, _ncos_in_medium(n1, n_ref, q_ref), q1)
+    return n_ref, q_ref, q1
 
 
 def ncos_of(*, n, cos_angle) -> np.ndarray:
     """``n cos θ`` in the medium of incidence (complex, forward branch).
+
+    For an absorbing medium (``Im n > 0``) this is ``n cos θ1`` of the complex angle
+    ``θ1`` with ``n sin θ1 = Re(n) sin θ`` (module docstring, "Absorbing medium of
+    incidence"); for a lossless one simply ``n cos θ``.
 
     Parameters
     ----------
     n : array_like complex [1]
         Index of the medium of incidence.
     cos_angle : array_like [1]
-        Cosine of the angle of incidence.
+        Cosine of the (real) angle of incidence.
+
+    Examples
+    --------
+    >>> q = ncos_of(n=1.5 + 0.01j, cos_angle=1.0)
+    >>> complex(q) == 1.5 + 0.01j
+    True
     """
     n = _as_index(n)
     c = np.asarray(cos_angle, dtype=float)
-    return n * c
+    n, c = np.broadcast_arrays(n, c)
+    return _incident(n, c)[2]
 
 
 def ncos_transmitted(*, n1, n2, angle=None, cos_angle=None) -> np.ndarray:
     """``n2 cos θ2`` in the second medium through the invariant ``n1 sin θ1 = n2 sin θ2``.
+
+    The invariant is ``Re(n1) sin θ`` (real) for an absorbing ``n1`` (module docstring).
 
     Parameters
     ----------
@@ -254,7 +316,8 @@ def ncos_transmitted(*, n1, n2, angle=None, cos_angle=None) -> np.ndarray:
     c1 = cosine_of(angle=angle, cos_angle=cos_angle)
     n1 = _as_index(n1)
     n2 = _as_index(n2)
-    return _ncos_in_medium(n2, n1, n1 * c1)
+    n_ref = n1.real
+    return _ncos_in_medium(n2, n_ref, n_ref * c1)
 
 
 def cos_transmitted(*, n1, n2, angle=None, cos_angle=None) -> np.ndarray:
@@ -360,7 +423,8 @@ def coefficients(*, n1, n2, angle=None, cos_angle=None) -> Coefficients:
     n2 : array_like complex [1]
         Index of the second medium.
     angle : array_like [rad], optional
-        Angle of incidence inside medium 1, in ``[0, π/2]``.
+        Angle of incidence inside medium 1, in ``[0, π/2]``; for an absorbing ``n1`` the
+        real angle that fixes the invariant ``Re(n1) sin θ`` (module docstring).
     cos_angle : array_like [1], optional
         Its cosine (instead of ``angle``).
 
@@ -389,8 +453,11 @@ def coefficients(*, n1, n2, angle=None, cos_angle=None) -> Coefficients:
     n1 = _as_index(n1)
     n2 = _as_index(n2)
     n1, n2, c1 = np.broadcast_arrays(n1, n2, c1)
-    q1 = n1 * c1
-    q2 = _ncos_in_medium(n2, n1, q1)
+    n_ref, q_ref, q1 = _incident(n1, c1)  # real invariant Re(n1) sin θ (module docstring)
+    lossy_in = n1.imag != 0
+    if np.any(lossy_in):  # complex cos θ1 of an absorbing medium of incidence
+        c1 = np.where(lossy_in, q1 / np.where(lossy_in, n1, 1.0), c1)
+    q2 = _ncos_in_medium(n2, n_ref, q_ref)
     c2 = q2 / n2
     den_s = q1 + q2  # n1 c1 + n2 c2
     a = n2 * c1
