@@ -272,3 +272,40 @@ def test_scene_face_treatment_contract():
                               thickness=0.1e-6, coating_b=FaceTreatment(), n_b=1.5, wavelength=WL, cos_angle=0.9)
     ref = _tmm("s", [1.5, 1.38, 1.0, 1.5], [qw.thicknesses[0], 0.1e-6], np.arccos(0.9), WL)
     assert g.Ts == pytest.approx(ref["T"], abs=1e-12)
+
+
+def test_gap_incoherent_mode_tunnels_beyond_the_critical_angle():
+    # coherence="incoherent": incoherent where the gap propagates (tmm inc_tmm), coherent where
+    # it is evanescent (frustrated TIR, tmm coh_tmm), per ray. Glass 1.5 | air | glass 1.5:
+    # critical angle arcsin(1/1.5) = 41.8 deg.
+    n = 1.5
+    th = np.radians([10.0, 30.0, 41.0, 43.0, 45.0, 60.0])
+    d = 0.4e-6
+    g = coatings.gap_response(n_a=n, coating_a=None, medium_n=1.0, thickness=d, coating_b=None, n_b=n,
+                              wavelength=WL, cos_angle=np.cos(th), coherence="incoherent")
+    for i, t in enumerate(th):
+        for pol, R, T in (("s", g.Rs[i], g.Ts[i]), ("p", g.Rp[i], g.Tp[i])):
+            if n * np.sin(t) < 1.0:
+                ref = tmm.inc_tmm(pol, [n, 1.0, n], [np.inf, d, np.inf], ["i", "i", "i"], t, WL)
+            else:
+                ref = _tmm(pol, [n, 1.0, n], [d], t, WL)
+            assert T == pytest.approx(ref["T"], abs=1e-12)
+            assert R == pytest.approx(ref["R"], abs=1e-12)
+    assert np.all(g.Ts[3:] > 1e-3)  # tunnelling, not blocked
+    # the same per ray when every ray is on one side (scalar flag paths)
+    beyond = coatings.gap_response(n_a=n, coating_a=None, medium_n=1.0, thickness=d, coating_b=None,
+                                   n_b=n, wavelength=WL, cos_angle=np.cos(th[3:]), coherence="incoherent")
+    coherent = coatings.gap_response(n_a=n, coating_a=None, medium_n=1.0, thickness=d, coating_b=None,
+                                     n_b=n, wavelength=WL, cos_angle=np.cos(th[3:]), coherence="coherent")
+    np.testing.assert_array_equal(beyond.Ts, coherent.Ts)
+    np.testing.assert_array_equal(beyond.Tp, coherent.Tp)
+    below = coatings.gap_response(n_a=n, coating_a=None, medium_n=1.0, thickness=d, coating_b=None,
+                                  n_b=n, wavelength=WL, cos_angle=np.cos(th[:3]), coherence="incoherent")
+    np.testing.assert_allclose(below.Ts, g.Ts[:3], rtol=1e-14)
+    # with coatings on both faces: the coating layers stay coherent inside the inc sum
+    ca = coatings.stack([(2.0, 80e-9)], name="A")
+    t = np.radians(20.0)
+    g = coatings.gap_response(n_a=n, coating_a=ca, medium_n=1.0, thickness=d, coating_b=None, n_b=n,
+                              wavelength=WL, cos_angle=np.cos(t), coherence="incoherent")
+    ref = tmm.inc_tmm("s", [n, 2.0, 1.0, n], [np.inf, 80e-9, d, np.inf], ["i", "c", "i", "i"], t, WL)
+    assert g.Ts == pytest.approx(ref["T"], abs=1e-12)

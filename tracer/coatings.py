@@ -610,8 +610,12 @@ def gap_response(*, n_a, coating_a, medium_n, thickness, coating_b, n_b, wavelen
     coherence : "auto", "coherent" or "incoherent"
         ``auto``: the gap layer is coherent where the gap medium is beyond its critical
         angle (evanescent field: always coherent) or where ``thickness`` is below the
-        coherence length, incoherent elsewhere (per ray). Coating layers are always
-        coherent.
+        coherence length, incoherent elsewhere (per ray). ``incoherent``: incoherent
+        where the field propagates in the gap, coherent where it is evanescent (per
+        ray): beyond the critical angle the field in the gap does not propagate, so
+        there is no phase to lose and the coherent formula (frustrated TIR) is right
+        whatever the source bandwidth. ``coherent``: coherent everywhere. Coating
+        layers are always coherent.
     extrapolate : bool
         Allow index models outside their valid range.
 
@@ -640,14 +644,16 @@ def gap_response(*, n_a, coating_a, medium_n, thickness, coating_b, n_b, wavelen
     layers = la + [(ng, d)] + lb
     if coherence == "coherent":
         flag = True
-    elif coherence == "incoherent":
-        flag = False
     else:
         c = np.asarray(cos_angle, dtype=float)
-        qa = na * c
-        q2_gap = (ng * ng - na * na) + qa * qa  # (n cos θ)^2 in the gap
-        evanescent = q2_gap.real < 0
-        flag = evanescent | (d < np.asarray(coherence_length, dtype=float))
+        # (n cos θ)^2 in the gap for the invariant Re(n_a) sin θ (tracer.fresnel)
+        nr = na.real
+        q2_gap = (ng * ng - nr * nr) + (nr * c) ** 2
+        evanescent = q2_gap.real < 0  # beyond the gap medium's critical angle
+        if coherence == "incoherent":
+            flag = evanescent
+        else:
+            flag = evanescent | (d < np.asarray(coherence_length, dtype=float))
         if np.ndim(flag) == 0:
             flag = bool(flag)
         elif flag.all():
