@@ -11,6 +11,10 @@ Built from the engine's power ledger. Every watt launched ends in exactly one ac
 * ``cut``: rays stopped at the event cap (``max_events``);
 * ``lost``: rays a numerical failure left with no exit (shown only when non-zero).
 
+Beside the accounts, the budget lists the power that tunnelled through each gap
+(frustrated TIR, booked by the engine at each crossing, both directions): it is not an
+account (that power ends in one of the accounts above) and is not part of the sum.
+
 The rows add up to the source power; :attr:`PowerBudget.residual_w` is what is left
 (round-off only, for a correct trace). Rows whose magnitude is below
 :data:`tracer.tolerances.BUDGET_ROUNDOFF` of the source power are left out of the
@@ -71,6 +75,9 @@ class PowerBudget:
         Source power minus every account (closure residual).
     far_field : list of str
         Far-field detectors (they see the escaped power).
+    tunnelled : dict
+        Per gap: ``faces``, ``tunnelled_w``, ``a_to_b_w``, ``b_to_a_w`` [W] and
+        ``leakage`` [1] (see :func:`tracer.analysis.leakage.gap_tunnel_table`).
     """
 
     source_power_w: float
@@ -78,6 +85,7 @@ class PowerBudget:
     totals: dict = field(default_factory=dict)
     residual_w: float = 0.0
     far_field: list = field(default_factory=list)
+    tunnelled: dict = field(default_factory=dict)
 
     @property
     def relative_residual(self) -> float:
@@ -91,7 +99,8 @@ class PowerBudget:
     def to_dict(self) -> dict:
         return dict(source_power_w=self.source_power_w, rows=[r.to_dict() for r in self.rows],
                     totals=dict(self.totals), residual_w=self.residual_w,
-                    relative_residual=self.relative_residual, far_field=list(self.far_field))
+                    relative_residual=self.relative_residual, far_field=list(self.far_field),
+                    tunnelled={k: dict(v) for k, v in self.tunnelled.items()})
 
     def to_csv(self) -> str:
         """CSV text: category, name, power_w, fraction_of_source; then the residual."""
@@ -117,6 +126,11 @@ class PowerBudget:
                                align="<<rr", indent="  "))
         text += (f"\n  closure residual {fmt_sci(self.residual_w)} W "
                  f"({fmt_sci(self.relative_residual)} of the source power)")
+        for name, g in self.tunnelled.items():
+            text += (f"\n  tunnelled through gap {name} ({g['faces'][0]} | {g['faces'][1]}): "
+                     f"{fmt_sci(g['tunnelled_w'])} W = {fmt_fraction(g['leakage'])} of the source "
+                     f"(A to B {fmt_sci(g['a_to_b_w'])} W, B to A {fmt_sci(g['b_to_a_w'])} W; "
+                     "not an account)")
         if self.far_field:
             many = len(self.far_field) > 1
             text += (f"\n  far-field detector{'s' if many else ''} {', '.join(self.far_field)} "
@@ -174,5 +188,15 @@ def power_budget(result, *, source: str | None = None) -> PowerBudget:
     totals = {k: float(b[k]) for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w")}
     totals["lost_w"] = lost
     far = [d.name for d in getattr(result.compiled, "far_fields", [])]
+    tunnelled = {}
+    if hasattr(result, "tunnelled_power"):
+        from .leakage import gap_faces
+
+        for gname in getattr(result, "gap_names", []):
+            ab = float(result.tunnelled_power(gname, direction="a->b", source=source))
+            ba = float(result.tunnelled_power(gname, direction="b->a", source=source))
+            tunnelled[gname] = dict(faces=list(gap_faces(result.scene, gname)),
+                                    tunnelled_w=ab + ba, a_to_b_w=ab, b_to_a_w=ba,
+                                    leakage=frac(ab + ba))
     return PowerBudget(source_power_w=src, rows=rows, totals=totals,
-                       residual_w=float(b["residual_w"]), far_field=far)
+                       residual_w=float(b["residual_w"]), far_field=far, tunnelled=tunnelled)

@@ -127,6 +127,10 @@ class GhostTable:
     design_rule : "sequence", "strongest" or "none"
     rows : list of GhostRow
         Every path, strongest first.
+    hits_dropped : int
+        Hits on the detector not kept individually (the trace's ``max_hits`` was
+        reached): powers and ranks are complete, but the landing columns (centroid, RMS
+        radius, degree of polarisation) cover only the kept hits.
     """
 
     detector: str
@@ -135,6 +139,7 @@ class GhostTable:
     power_w: float
     design_rule: str
     rows: list = field(default_factory=list)
+    hits_dropped: int = 0
 
     @property
     def design(self) -> GhostRow | None:
@@ -176,6 +181,7 @@ class GhostTable:
             design_power_w=self.design_power_w, ghost_power_w=self.ghost_power_w,
             ghost_fraction=finite_or_none(self.ghost_fraction),
             paths_total=len(self.rows), paths=[r.to_dict() for r in rows],
+            hits_dropped=int(self.hits_dropped),
         )
 
     CSV_COLUMNS = ("rank", "design", "power_w", "fraction_of_source", "ratio_to_design",
@@ -227,7 +233,18 @@ class GhostTable:
         gf = self.ghost_fraction
         text += (f"\n  ghost power {fmt_sci(self.ghost_power_w)} W = "
                  f"{fmt_sci(gf) if math.isfinite(gf) else 'inf'} of the design signal")
+        if self.hits_dropped > 0:
+            text += "\n" + self.dropped_warning()
         return text
+
+    def dropped_warning(self) -> str:
+        """The warning line printed when hits were dropped (empty when none were)."""
+        if self.hits_dropped <= 0:
+            return ""
+        what = "x, y, rms and DoP" if self.kind == "plane" else "far-field records"
+        return (f"  warning: {self.hits_dropped} hit{'s' if self.hits_dropped != 1 else ''} "
+                f"not kept (max_hits reached); {what} use the kept hits only, powers are "
+                "complete (raise the max_hits trace setting)")
 
 
 # ---------------------------------------------------------------- labels
@@ -410,6 +427,7 @@ def ghost_table(result, detector: str) -> GhostTable:
     if detector not in result.detector_names:
         raise TracerError(f"unknown detector {detector!r}; the scene has "
                           f"{', '.join(result.detector_names) or 'no detector'}")
+    dropped = result.hits_dropped_on(detector) if hasattr(result, "hits_dropped_on") else 0
     scene = result.scene
     src_power = float(result.source_power_w)
     multi = len(result.source_names) > 1
@@ -455,7 +473,8 @@ def ghost_table(result, detector: str) -> GhostTable:
             centroid=centroid, rms_radius=rms, dop=dop, design=(i == design_index),
         ))
     return GhostTable(detector=detector, kind="plane" if plane else "far_field",
-                      source_power_w=src_power, power_w=total, design_rule=rule, rows=rows)
+                      source_power_w=src_power, power_w=total, design_rule=rule, rows=rows,
+                      hits_dropped=int(dropped))
 
 
 def ghost_tables(result) -> dict[str, GhostTable]:

@@ -3,21 +3,25 @@
 A TIR face backed by a thin gap (a prism pair, a beam-splitter cube) does not reflect
 everything: the evanescent field couples across the gap (frustrated TIR) and a fraction
 tunnels into the partner solid. The engine books these events as kind ``tunnel`` (code
-``FT``) on one of the two faces of the gap.
+``FT``) on the face the wave tunnels from, and books the power each tunnelled child
+carries across the gap, per source and per direction (solid A to B, B to A), at the
+moment it crosses (:meth:`tracer.engine.Result.tunnelled_power`).
 
-The leakage of a gap is the power of every path that contains at least one ``tunnel``
-event on either face of the gap, divided by the source power. It is computed from the
-path tree: the power each such path delivers to a detector or carries out of the
-assembly (escaped). A path that tunnels more than once counts once.
+The leakage of a gap is that tunnelled power, both directions, over the source power.
+It is exact in tree mode whatever happens to the light afterwards (detected, escaped,
+absorbed, discarded or cut); light that crosses the gap several times (A to B, back
+B to A, ...) counts once per crossing. In Monte Carlo mode it is an unbiased estimate.
 
-Power that tunnels and is then absorbed, discarded under the power threshold or cut at
-the event cap is not in the path table, so the figure is a lower bound by at most those
-accounts (zero for lossless solids and a threshold well below the leak).
+:func:`path_tunnelled_power` gives the older, path-table figure: the power that
+*arrives* on a detector or escapes along paths with at least one tunnel event, a lower
+bound of the tunnelled power (it misses what tunnels and is then absorbed, discarded
+or cut, and counts a path that tunnels twice once).
 """
 
 from __future__ import annotations
 
-__all__ = ["gap_leakage", "gap_faces", "tunnelled_power"]
+__all__ = ["gap_leakage", "gap_faces", "gap_tunnelled_power", "tunnelled_power",
+           "path_tunnelled_power", "gap_tunnel_table"]
 
 
 def gap_faces(scene, gap: str) -> tuple[str, str]:
@@ -35,8 +39,11 @@ def _tunnels(events, faces) -> bool:
     return any(k == "tunnel" and f in faces for f, k in events)
 
 
-def tunnelled_power(result, faces) -> float:
+def path_tunnelled_power(result, faces) -> float:
     """Power [W] of every detected or escaped path with a ``tunnel`` event on ``faces``.
+
+    A lower bound of the tunnelled power (see the module docstring); kept for
+    comparison with :func:`gap_tunnelled_power`.
 
     Parameters
     ----------
@@ -59,8 +66,37 @@ def tunnelled_power(result, faces) -> float:
     return total
 
 
+#: Former name of :func:`path_tunnelled_power` (same arguments and meaning).
+tunnelled_power = path_tunnelled_power
+
+
+def gap_tunnelled_power(result, gap: str, *, direction: str | None = None,
+                        source: str | None = None) -> float:
+    """Power [W] that tunnelled through ``gap`` (booked by the engine, exact in tree mode).
+
+    Parameters
+    ----------
+    result : tracer.engine.Result
+    gap : str
+        Gap name in the traced scene.
+    direction : {"a->b", "b->a"}, optional
+        One direction only (default both).
+    source : str, optional
+        One source only (default all).
+    """
+    from ..errors import TracerError
+
+    gap_faces(result.scene, gap)  # a clear error for an unknown gap
+    try:
+        return float(result.tunnelled_power(gap, direction=direction, source=source))
+    except KeyError as exc:
+        raise TracerError(str(exc.args[0])) from None
+
+
 def gap_leakage(result, gap: str) -> float:
-    """Leakage of ``gap``: tunnelled power over source power [1] (see the module docstring).
+    """Leakage of ``gap``: tunnelled power (both directions) over source power [1].
+
+    See the module docstring.
 
     Parameters
     ----------
@@ -68,8 +104,28 @@ def gap_leakage(result, gap: str) -> float:
     gap : str
         Gap name in the traced scene.
     """
-    faces = gap_faces(result.scene, gap)
     src = float(result.source_power_w)
+    value = gap_tunnelled_power(result, gap)
     if not src > 0:
         return 0.0
-    return tunnelled_power(result, faces) / src
+    return value / src
+
+
+def gap_tunnel_table(result) -> dict:
+    """Per gap: faces, tunnelled power [W] in each direction and in all, leakage [1].
+
+    Returns
+    -------
+    dict
+        ``{gap: {"faces": [a, b], "tunnelled_w", "a_to_b_w", "b_to_a_w", "leakage"}}``
+        in scene order (empty without gaps).
+    """
+    src = float(result.source_power_w)
+    out = {}
+    for name in getattr(result, "gap_names", []):
+        a, b = gap_faces(result.scene, name)
+        ab = float(result.tunnelled_power(name, direction="a->b"))
+        ba = float(result.tunnelled_power(name, direction="b->a"))
+        out[name] = dict(faces=[a, b], tunnelled_w=ab + ba, a_to_b_w=ab, b_to_a_w=ba,
+                         leakage=(ab + ba) / src if src > 0 else 0.0)
+    return out

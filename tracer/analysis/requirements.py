@@ -8,8 +8,9 @@ Kinds (:class:`tracer.scene.model.RequirementSpec`):
   power of the design path <= limit (design path as in :mod:`tracer.analysis.ghosts`).
   With no design signal the value is infinite (reported as ``None`` in JSON) and the
   requirement fails.
-* ``max_leakage``: power that tunnelled through a named gap divided by the source power
-  <= limit (see :mod:`tracer.analysis.leakage`).
+* ``max_leakage``: power that tunnelled through a named gap (both directions, every
+  crossing, as booked by the engine) divided by the source power <= limit (see
+  :mod:`tracer.analysis.leakage`).
 """
 
 from __future__ import annotations

@@ -106,6 +106,8 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         detectors=detectors,
         ledger=ledger,
         budget=[r.to_dict() for r in budget.rows],
+        gaps={name: dict(g) for name, g in budget.tunnelled.items()},
+        hits_dropped=int(getattr(res, "hits_dropped", 0)),
         requirements=[v.to_dict() for v in analysis.verdicts],
         passed=analysis.passed,
     )
