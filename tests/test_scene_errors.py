@@ -274,3 +274,23 @@ def test_missing_format_does_not_hide_other_problems():
     doc["titel"] = "x"
     keys = {p.key for p in problems(doc)}
     assert {"", "titel"} <= keys
+
+
+def test_scene_error_importable_from_tracer_errors():
+    import pickle
+    import subprocess
+    import sys
+
+    from tracer import errors
+
+    assert errors.SceneError is SceneError
+    assert "SceneError" in errors.__all__
+    with pytest.raises(errors.SceneError) as info:
+        loads("format = 1\ntitel = 'x'\n", path="x.toml")
+    assert isinstance(info.value, TracerError)
+    again = pickle.loads(pickle.dumps(info.value))
+    assert type(again) is errors.SceneError and str(again) == str(info.value)
+    # tracer.errors stays a leaf module: importing it loads no scene code (no import cycle)
+    code = ("import sys, tracer.errors as e; assert 'tracer.scene' not in sys.modules; "
+            "from tracer.scene import SceneError; assert SceneError is e.SceneError")
+    subprocess.run([sys.executable, "-c", code], check=True)

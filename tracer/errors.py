@@ -4,7 +4,7 @@ Every error a user can cause is a subclass of :class:`TracerError`; the command
 line prints its message and exits with code 2 instead of showing a traceback.
 """
 
-__all__ = ["TracerError", "UnitError", "MaterialError", "RangeError"]
+__all__ = ["TracerError", "UnitError", "MaterialError", "RangeError", "SceneError"]
 
 
 class TracerError(Exception):
@@ -21,3 +21,23 @@ class MaterialError(TracerError, ValueError):
 
 class RangeError(TracerError, ValueError):
     """A model was evaluated outside its valid range without opting in."""
+
+
+class SceneError(TracerError, ValueError):
+    """A scene file has one or more problems; ``problems`` lists them all.
+
+    Each item is a :class:`tracer.scene.problems.Problem` (file, TOML key path, message);
+    ``str()`` gives one problem per line, in the order they were found. Also importable
+    as ``tracer.scene.SceneError`` (the same class).
+
+    >>> from tracer.scene import SceneError as same
+    >>> same is SceneError
+    True
+    """
+
+    def __init__(self, problems):
+        self.problems = list(problems)
+        super().__init__("\n".join(str(p) for p in self.problems))
+
+    def __reduce__(self):  # keep pickling (process pools) working
+        return (type(self), (self.problems,))

@@ -18,7 +18,7 @@ from __future__ import annotations
 import difflib
 from dataclasses import dataclass, field
 
-from ..errors import TracerError
+from ..errors import SceneError  # defined there (importable from tracer.errors), re-exported here
 
 __all__ = ["Problem", "SceneError", "Problems", "did_you_mean", "describe_value"]
 
@@ -55,20 +55,6 @@ class Problem:
         if self.key:
             return f"{where}: {self.key}: {self.message}"
         return f"{where}: {self.message}"
-
-
-class SceneError(TracerError, ValueError):
-    """A scene file has one or more problems; ``problems`` lists them all.
-
-    ``str()`` gives one problem per line, in the order they were found.
-    """
-
-    def __init__(self, problems: list[Problem]):
-        self.problems = list(problems)
-        super().__init__("\n".join(str(p) for p in self.problems))
-
-    def __reduce__(self):  # keep pickling (process pools) working
-        return (type(self), (self.problems,))
 
 
 @dataclass
