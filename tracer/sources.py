@@ -461,7 +461,8 @@ def generate(source, *, rng: np.random.Generator, count: int | None = None, inde
 
 
 def generate_batches(
-    source, *, rng: np.random.Generator, batch_size: int, count: int | None = None, index: int = 0
+    source, *, rng: np.random.Generator, batch_size: int, count: int | None = None, index: int = 0,
+    start: int = 0, stop: int | None = None,
 ) -> Iterator[SourceRays]:
     """Launch the rays of one source in batches of at most ``batch_size`` rays.
 
@@ -477,6 +478,10 @@ def generate_batches(
         Largest number of rays per batch.
     count, index
         As for :func:`generate`.
+    start, stop : int
+        Only the rays of global index ``start <= j < stop`` (``stop`` None: to the end;
+        clipped to the source's ray count). They are the same rays as in the full
+        generation, so disjoint ranges partition the source.
 
     Yields
     ------
@@ -485,5 +490,7 @@ def generate_batches(
     if isinstance(batch_size, bool) or int(batch_size) != batch_size or batch_size < 1:
         raise _err(source, f"batch_size must be a positive integer, got {batch_size!r}")
     params, total = _prepare(source, rng, count)
-    for start in range(0, total, int(batch_size)):
-        yield _generate_range(source, start, min(total, start + int(batch_size)), index=index, **params)
+    first = max(0, int(start))
+    end = total if stop is None else min(total, int(stop))
+    for b in range(first, end, int(batch_size)):
+        yield _generate_range(source, b, min(end, b + int(batch_size)), index=index, **params)

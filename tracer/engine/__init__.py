@@ -4,7 +4,9 @@ Public entry points:
 
 * :func:`trace` -- ``trace(scene, **settings) -> Result`` (non-sequential);
 * :func:`trace_sequence` -- follow a declared face sequence and report the design path;
-* :class:`Result` -- ledger, paths, detector records, :meth:`Result.summary`.
+* :class:`Result` -- ledger, paths, detector records, tunnelled power per gap
+  (:meth:`Result.tunnelled_power`), :meth:`Result.summary`;
+* :func:`launch_counts` -- source rays per source (the indices ``ray_range`` selects).
 
 Example (a demo scene: an uncoated plate in front of a screen):
 
@@ -47,9 +49,10 @@ Modules: :mod:`~tracer.engine.batch` (ray batches), :mod:`~tracer.engine.compile
 :mod:`~tracer.engine.result`.
 """
 
-from .api import SETTINGS, trace
+from .api import SETTINGS, launch_counts, trace
 from .compile import EngineError, compile_scene
 from .result import Result
 from .sequential import SequenceReport, trace_sequence
 
-__all__ = ["trace", "trace_sequence", "SequenceReport", "Result", "SETTINGS", "EngineError", "compile_scene"]
+__all__ = ["trace", "trace_sequence", "SequenceReport", "Result", "SETTINGS", "EngineError",
+           "compile_scene", "launch_counts"]

@@ -56,6 +56,7 @@ class Options:
     max_hits: int = 2_000_000
     progress: bool | None = None
     rays: object = None
+    ray_range: object = None
 
 
 class Recorder:

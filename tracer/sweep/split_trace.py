@@ -15,14 +15,11 @@ The pieces are summed as plain data: :func:`merge_summaries` adds the
 :meth:`tracer.engine.Result.summary` of every range (ledger accounts, source and
 detector powers, per-path powers and ray counts matched by path signature).
 
-Coupling: :func:`trace_range` builds the engine's launch plan itself from the
-engine's own option checks and the sources' range generator, the same steps as
-:func:`tracer.engine.trace` with the rays restricted to a range.
+:func:`trace_range` is :func:`tracer.engine.trace` with its public ``ray_range``
+setting.
 """
 
 from __future__ import annotations
-
-import numpy as np
 
 from .parallel import Backend, get_backend, split_range
 
@@ -34,33 +31,9 @@ _SAME = ("title", "mode", "seed", "power_threshold", "max_events")
 
 def ray_totals(scene, rays=None) -> dict[str, int]:
     """Rays each source launches (geometric rays x spectral lines) for ``rays``."""
-    from .. import sources as srcmod
-    from ..engine.api import _source_counts
+    from ..engine import launch_counts
 
-    counts = _source_counts(scene, rays)
-    return {name: int(srcmod.ray_count(spec, counts[name])) for name, spec in scene.sources.items()}
-
-
-def _range_batches(srcmod, spec, *, rng, batch_size, count, index, start, stop):
-    prepare = getattr(srcmod, "_prepare", None)
-    generate_range = getattr(srcmod, "_generate_range", None)
-    if prepare is not None and generate_range is not None:
-        params, total = prepare(spec, rng, count)
-        stop = min(stop, total)
-        for s in range(start, stop, batch_size):
-            yield generate_range(spec, s, min(stop, s + batch_size), index=index, **params)
-        return
-    # fallback through the public generator: skip the batches outside the range
-    done = 0
-    for rays in srcmod.generate_batches(spec, rng=rng, batch_size=batch_size, count=count, index=index):
-        lo, hi = done, done + len(rays)
-        done = hi
-        if hi <= start or lo >= stop:
-            continue
-        if lo >= start and hi <= stop:
-            yield rays
-        else:  # pragma: no cover - only with a batch size not dividing the range
-            raise RuntimeError("internal: ray range not aligned with batches")
+    return launch_counts(scene, rays)
 
 
 def trace_range(scene, ranges: dict[str, tuple[int, int]], **settings):
@@ -78,37 +51,10 @@ def trace_range(scene, ranges: dict[str, tuple[int, int]], **settings):
     -------
     tracer.engine.Result
     """
-    from .. import sources as srcmod
-    from ..engine.api import _options, _source_counts
-    from ..engine.compile import compile_scene
-    from ..engine.result import Result
-    from ..engine.tree import run
+    from ..engine import trace
 
-    opts = _options(scene, settings)
-    cs = compile_scene(scene)
-    counts = _source_counts(scene, opts.rays)
-    wls, cohs = [], []
-    for spec in scene.sources.values():
-        w = np.asarray(spec.spectrum.wavelengths, dtype=float)
-        wls.append(w)
-        cohs.append(np.broadcast_to(spec.spectrum.coherence_length(), w.shape))
-    if wls:
-        allw, allc = np.concatenate(wls), np.concatenate(cohs)
-        uw, inv = np.unique(allw, return_inverse=True)
-        uc = np.full(len(uw), np.inf)
-        np.minimum.at(uc, inv, allc)
-    else:
-        uw, uc = np.array([550e-9]), np.array([np.inf])
-    plan = []
-    for i, (name, spec) in enumerate(scene.sources.items()):
-        start, stop = ranges.get(name, (0, 0))
-        rng = np.random.default_rng([int(opts.seed), i])
-        it = _range_batches(srcmod, spec, rng=rng, batch_size=int(opts.batch_size),
-                            count=counts[name], index=i, start=int(start), stop=int(stop))
-        plan.append((name, (max(0, int(stop) - int(start)), it)))
-    ledger, tree, rec, launched = run(cs, plan, opts, wavelengths=uw, coherence=uc)
-    return Result(scene=scene, compiled=cs, options=opts, ledger=ledger, tree=tree,
-                  recorder=rec, launched=launched)
+    return trace(scene, ray_range={n: (int(a), int(b)) for n, (a, b) in ranges.items()},
+                 **settings)
 
 
 def _scene_of(payload):
@@ -215,8 +161,8 @@ def _merge_paths(lists, max_paths):
 def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     """Add the summaries of traces of disjoint ray sets.
 
-    Ledger accounts, source powers and ray counts, events, detector powers and hits add;
-    paths are matched by signature and their powers and ray counts add. For an exact
+    Ledger accounts, source powers and ray counts, events, detector powers and hits,
+    dropped hits and the power tunnelled through each gap add; paths are matched by signature and their powers and ray counts add. For an exact
     merge the pieces should keep all their paths (``summary(max_paths=<large>)``).
 
     >>> a = {"title": "t", "events": 3, "source_power_w": 1.0, "sources": {},
@@ -240,10 +186,13 @@ def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     dets: dict = {}
     for name, d in first.get("detectors", {}).items():
         parts = [s["detectors"][name] for s in summaries]
-        merged = {k: v for k, v in d.items() if k not in ("paths", "power_w", "hits", "paths_total")}
+        merged = {k: v for k, v in d.items()
+                  if k not in ("paths", "power_w", "hits", "paths_total", "hits_dropped")}
         merged["power_w"] = float(sum(p["power_w"] for p in parts))
         if "hits" in d:
             merged["hits"] = int(sum(p.get("hits", 0) for p in parts))
+        if "hits_dropped" in d:
+            merged["hits_dropped"] = int(sum(p.get("hits_dropped", 0) for p in parts))
         paths, total = _merge_paths([p.get("paths", []) for p in parts], max_paths)
         merged["paths"] = paths
         if "paths_total" in d:
@@ -254,4 +203,11 @@ def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     for s in summaries:
         ledger = _add(ledger, s.get("ledger", {}))
     out["ledger"] = ledger
+    if any("gaps" in s for s in summaries):
+        gaps: dict = {}
+        for s in summaries:
+            gaps = _add(gaps, s.get("gaps", {}))
+        out["gaps"] = gaps
+    if any("hits_dropped" in s for s in summaries):
+        out["hits_dropped"] = int(sum(int(s.get("hits_dropped", 0)) for s in summaries))
     return out
