@@ -284,11 +284,21 @@ class Result:
         return rec
 
     def segments(self) -> dict:
-        """Recorded segments (start, end [m], power [W], wavelength [m], node)."""
+        """Recorded segments (up to the ``segments`` setting, in tracing order).
+
+        Keys: start, end (N, 3) [m], power [W], wavelength [m], node (the path-tree
+        node of the ray's last event before the segment) and escaping (N,) bool: True
+        for the last segment of a ray that leaves the assembly (or of a source ray that
+        meets nothing), drawn from its start to where it leaves the scene's extent
+        enlarged by 30 % (:mod:`tracer.engine.escape`).
+        """
         parts = self._rec.segments
-        keys = ("start", "end", "power", "wavelength", "node")
+        keys = ("start", "end", "power", "wavelength", "node", "escaping")
         if not parts:
-            return {k: np.zeros((0, 3) if k in ("start", "end") else (0,)) for k in keys}
+            out = {k: np.zeros((0, 3) if k in ("start", "end") else (0,)) for k in keys}
+            out["node"] = np.zeros(0, dtype=np.int64)
+            out["escaping"] = np.zeros(0, dtype=bool)
+            return out
         return {k: np.concatenate([p[k] for p in parts]) for k in keys}
 
     # ------------------------------------------------------------------ summary

@@ -162,14 +162,26 @@ class Recorder:
                                      wavelength=wavelength[:keep], node=node[:keep]))
                 self.n_far += keep
 
-    def segment(self, start, end, power, wavelength, node):
+    def segment(self, start, end, power, wavelength, node, escaping=False):
         room = self.opts.segments - self.n_segments
         if room <= 0:
             return
         k = min(room, len(power))
         self.segments.append(dict(start=start[:k], end=end[:k], power=power[:k],
-                                  wavelength=wavelength[:k], node=node[:k]))
+                                  wavelength=wavelength[:k], node=node[:k],
+                                  escaping=np.full(k, bool(escaping))))
         self.n_segments += k
+
+    def escape_segment(self, start, direction, power, wavelength, node):
+        """Segment of rays leaving the assembly, clipped (:mod:`tracer.engine.escape`)."""
+        if self.opts.segments - self.n_segments <= 0:
+            return
+        from .escape import escape_ends, scene_box
+
+        if getattr(self, "_box", None) is None:
+            self._box = scene_box(self.cs)
+        end = escape_ends(start, direction, *self._box)
+        self.segment(start, end, power, wavelength, node, escaping=True)
 
     def node_table(self):
         """Aggregates: per detection node (``nodes`` and columns) and escaped per node."""
@@ -278,6 +290,9 @@ class _Tracer:
             if out.any():
                 led.book(src[out], led.escaped(b.last_face[out]), b.power[out])
                 rec.escape(b.node[out], b.direction[out], b.power[out], b.wavelength[out])
+                if self.opts.segments:
+                    rec.escape_segment(b.origin[out], b.direction[out], b.power[out],
+                                       b.wavelength[out], b.node[out])
             lost = miss & (b.medium >= 0)
             if lost.any():
                 led.book(src[lost], led.LOST, b.power[lost])

@@ -12,6 +12,10 @@ the largest segment power of its source (the source ray's power). Segments with
 
 So each decade of power lost fades a ray by the same step, down to a faint but visible
 line at the cut-off.
+
+Rays that leave the assembly end in a segment flagged ``escaping`` (drawn to the
+scene's extent enlarged by 30 %, see :mod:`tracer.engine.escape`); they are drawn like
+the others, and ``RaySet.escaping`` marks them.
 """
 
 from __future__ import annotations
@@ -34,7 +38,8 @@ class RaySet:
     """Segments ready to draw, sorted from weak to strong (strong ones on top).
 
     start, end : (N, 3) [m]; power : (N,) [W]; relative : (N,) [1]; level : (N,) in [0, 1];
-    rgba : (N, 4); width : (N,) [pt]; wavelength : (N,) [m]; highlight : (N,) bool.
+    rgba : (N, 4); width : (N,) [pt]; wavelength : (N,) [m]; highlight : (N,) bool;
+    escaping : (N,) bool (the segment runs from a ray's last face out of the scene).
     """
 
     start: np.ndarray
@@ -47,6 +52,11 @@ class RaySet:
     wavelength: np.ndarray
     node: np.ndarray
     highlight: np.ndarray
+    escaping: np.ndarray = None
+
+    def __post_init__(self):
+        if self.escaping is None:
+            self.escaping = np.zeros(len(self.power), dtype=bool)
 
     def __len__(self) -> int:
         return len(self.power)
@@ -117,6 +127,9 @@ def _representative(seg, node, path_nodes, depth) -> np.ndarray:
     if not chain:
         return mask
     last = np.nonzero(node == chain[-1])[0]
+    esc = seg.get("escaping")
+    if esc is not None and len(last) and not np.all(esc[last]) and np.any(esc[last]):
+        last = last[~np.asarray(esc, bool)[last]]  # a detected path: its rays, not the misses
     centre = end[last].mean(axis=0)
     cur = int(last[np.argmin(np.linalg.norm(end[last] - centre, axis=1))])
     mask[cur] = True
@@ -171,4 +184,5 @@ def prepare_rays(result, *, min_power: float = 1e-6, highlight=None) -> RaySet:
         power=power[idx], relative=rel[idx], level=lev, rgba=rgba,
         width=LW_MIN + (LW_MAX - LW_MIN) * lev, wavelength=wl, node=node[idx],
         highlight=hl[idx],
+        escaping=np.asarray(seg.get("escaping", np.zeros(len(power), bool)), bool)[idx],
     )
