@@ -27,7 +27,7 @@ INTERNAL_ERROR = "internal error while loading the scene"
 #: Every top-level key and table of format 1.
 TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum",
                   "trace", "gap_finding", "materials", "coatings", "solids", "gaps", "sources",
-                  "detectors", "requirements")
+                  "detectors", "requirements", "tolerances")
 
 
 def load(path: str | os.PathLike) -> Scene:
@@ -177,6 +177,10 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
         spec = read_requirement(name, t, build, gap_names=gap_names)
         if spec is not None:
             requirements[name] = spec
+
+    # -- tolerances: checked (key paths into everything read above), not traced
+    from .tolerance_tables import read_tolerance_tables
+    read_tolerance_tables(doc.tables("tolerances"), build, document)
     doc.finish()
 
     # -- cross checks: design path, material ranges, sources inside solids, overlaps

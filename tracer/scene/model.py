@@ -153,8 +153,11 @@ class GapSpec:
     origin : "declared", "mated" or "automatic"
         How the gap entered the scene.
     coherence : "auto", "coherent" or "incoherent"
-        ``auto``: coherent beyond the gap medium's critical angle or when the thickness
-        is below the coherence length, incoherent otherwise.
+        Per ray. ``auto``: coherent beyond the gap medium's critical angle or when the
+        thickness is below the coherence length, incoherent otherwise. ``incoherent``:
+        incoherent where the field propagates in the gap, coherent beyond the critical
+        angle (an evanescent field has no phase to lose: frustrated TIR still tunnels).
+        ``coherent``: always coherent.
     """
 
     name: str

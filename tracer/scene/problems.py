@@ -64,6 +64,9 @@ class Problems:
     file: str | None = None
     errors: list[Problem] = field(default_factory=list)
     notes: list[Problem] = field(default_factory=list)
+    #: Every key path the loader asked for (present or not) -> what it was read as
+    #: (a quantity kind, "number", "integer", "string", "boolean", "table", or None).
+    read: dict = field(default_factory=dict, repr=False, compare=False)
 
     def error(self, key: str, message: str, *, line: int | None = None,
               column: int | None = None) -> None:

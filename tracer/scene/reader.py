@@ -77,6 +77,21 @@ class Table:
         self.data = data
         self._known: set[str] = set()
 
+    def _asked(self, name: str, kind: str | None = None) -> None:
+        """Record in ``problems.read`` that the loader asked for ``name`` (and as what).
+
+        ``kind`` is the quantity kind (``length``, ``angle``, ...) or ``number``,
+        ``integer``, ``string``, ``boolean``, ``table``; ``None`` when read unchecked.
+        The record tells which keys of a table exist in the format, present or left at
+        their defaults (used to check the key paths of ``[tolerances]``).
+        """
+        read = getattr(self.problems, "read", None)
+        if read is None:
+            return
+        path = self.path(name)
+        if kind is not None or path not in read:
+            read[path] = kind
+
     # ------------------------------------------------------------------ basics
     def path(self, name: str) -> str:
         """Key path of ``name`` in this table (an index suffix such as ``[2]`` is kept)."""
@@ -97,20 +112,25 @@ class Table:
     def known(self, *names: str) -> None:
         """Declare keys as allowed without reading them."""
         self._known.update(names)
+        for name in names:
+            self._asked(name)
 
     def has(self, name: str) -> bool:
         """Whether the key is present (declares it known)."""
         self._known.add(name)
+        self._asked(name)
         return name in self.data
 
     def raw(self, name: str, default=None):
         """The value as parsed, unchecked (declares it known)."""
         self._known.add(name)
+        self._asked(name)
         return self.data.get(name, default)
 
-    def _fetch(self, name, required, expected):
+    def _fetch(self, name, required, expected, kind=None):
         """(present, value); records a missing-key problem when required."""
         self._known.add(name)
+        self._asked(name, kind)
         if name in self.data:
             return True, self.data[name]
         if required:
@@ -133,7 +153,7 @@ class Table:
                choices=None, nonempty: bool = True) -> str | None:
         """A string, optionally one of ``choices`` (a sequence or a mapping of aliases)."""
         expected = "a string" if not choices else "one of " + ", ".join(f'"{c}"' for c in choices)
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, "string")
         if not present:
             return default
         if not isinstance(value, str):
@@ -151,7 +171,7 @@ class Table:
 
     def boolean(self, name: str, *, required: bool = False, default: bool | None = None):
         """``true`` or ``false``."""
-        present, value = self._fetch(name, required, "true or false")
+        present, value = self._fetch(name, required, "true or false", "boolean")
         if not present:
             return default
         if not isinstance(value, bool):
@@ -167,7 +187,7 @@ class Table:
             expected += f" >= {minimum}"
         if maximum is not None:
             expected += f"{' and' if minimum is not None else ''} <= {maximum}"
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, "integer")
         if not present:
             return default
         if isinstance(value, bool) or not isinstance(value, int):
@@ -187,7 +207,7 @@ class Table:
             expected += f" {'>' if exclusive_minimum else '>='} {minimum:g}"
         if maximum is not None:
             expected += f"{' and' if minimum is not None else ''} <= {maximum:g}"
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, "number")
         if not present:
             return default
         if not _is_number(value) or not math.isfinite(value):
@@ -206,7 +226,7 @@ class Table:
                 minimum: float | None = None, nonempty: bool = True, default=None):
         """An array of finite numbers as a float ndarray."""
         expected = "an array of numbers" + (f" with {length} items" if length else "")
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, "number")
         if not present:
             return default
         if (not isinstance(value, list) or not all(_is_number(v) for v in value)
@@ -225,7 +245,7 @@ class Table:
     def strings(self, name: str, *, required: bool = False, default=None, nonempty: bool = True):
         """An array of strings (a single string is accepted as one item)."""
         expected = "an array of strings"
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, "string")
         if not present:
             return default
         if isinstance(value, str):
@@ -239,7 +259,7 @@ class Table:
     # ------------------------------------------------------------------ sub-tables
     def table(self, name: str, *, required: bool = False) -> "Table | None":
         """A sub-table as a :class:`Table` (``None`` when absent or not a table)."""
-        present, value = self._fetch(name, required, "a table")
+        present, value = self._fetch(name, required, "a table", "table")
         if not present:
             return None
         if not isinstance(value, dict):
@@ -249,7 +269,7 @@ class Table:
 
     def tables(self, name: str) -> dict[str, "Table"]:
         """Named sub-tables ``[name.X]`` as ``{X: Table}`` (empty when absent)."""
-        present, value = self._fetch(name, False, "a table of named tables")
+        present, value = self._fetch(name, False, "a table of named tables", "table")
         if not present:
             return {}
         if not isinstance(value, dict):
@@ -270,7 +290,7 @@ class Table:
                  maximum: float | None = None) -> float | None:
         """A physical quantity of ``kind`` (length, angle, power, wavelength) in SI."""
         expected = self.units.expected(kind)
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, kind)
         if not present:
             return default
         return self._convert(name, value, kind, positive=positive, nonnegative=nonnegative,
@@ -314,7 +334,7 @@ class Table:
         expected = f"an array of {self.units.expected_plural(kind)}"
         if lengths:
             expected += f" with {' or '.join(str(n) for n in lengths)} items"
-        present, value = self._fetch(name, required, expected)
+        present, value = self._fetch(name, required, expected, kind)
         if not present:
             return default
         if allow_single and not isinstance(value, list):
@@ -338,7 +358,7 @@ class Table:
         sizes = (2, 3) if dimension == 2 else (3,)
         if kind is None:
             expected = f"an array of {' or '.join(map(str, sizes))} numbers"
-            present, value = self._fetch(name, required, expected)
+            present, value = self._fetch(name, required, expected, "number")
             if not present:
                 return default
             if (not isinstance(value, list) or len(value) not in sizes

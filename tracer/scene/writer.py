@@ -23,7 +23,7 @@ __all__ = ["dump", "write", "to_document"]
 
 _ORDER = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum", "trace",
           "gap_finding", "materials", "coatings", "solids", "gaps", "sources", "detectors",
-          "requirements")
+          "requirements", "tolerances")
 
 
 def to_document(scene: Scene, *, relative_to: str | os.PathLike | None = None) -> dict:
