@@ -78,6 +78,13 @@ class CompiledScene:
     face_group: np.ndarray = None  # treatment group per face (coated faces)
     group_treatment: list = field(default_factory=list)
     _n_cache: dict = field(default_factory=dict)
+    # broad-phase and narrow-phase arrays (see :func:`box_groups`); filled by compile_scene
+    plane_nx: np.ndarray = None  # (S, P) normal components, contiguous
+    plane_ny: np.ndarray = None
+    plane_nz: np.ndarray = None
+    group_lo: np.ndarray = None  # (G, 3) box of each group of solids, or None
+    group_hi: np.ndarray = None
+    group_members: np.ndarray = None  # (G, K) solid indices, -1 padding
 
     @property
     def n_solids(self) -> int:
@@ -231,7 +238,14 @@ def compile_scene(scene) -> CompiledScene:
             groups[key] = len(group_treatment)
             group_treatment.append(t)
         face_group[f] = groups[key]
+    glo, ghi, gmem = box_groups(lo, hi)
     return CompiledScene(
+        plane_nx=np.ascontiguousarray(plane_n[..., 0]),
+        plane_ny=np.ascontiguousarray(plane_n[..., 1]),
+        plane_nz=np.ascontiguousarray(plane_n[..., 2]),
+        group_lo=glo,
+        group_hi=ghi,
+        group_members=gmem,
         face_group=face_group,
         group_treatment=group_treatment,
         scene=scene,
@@ -266,6 +280,66 @@ def compile_scene(scene) -> CompiledScene:
         far_fields=far,
         face_index=index,
     )
+
+
+#: Scenes with more solids than this get a two-level broad phase (groups of solids).
+GROUP_MIN_SOLIDS = 16
+
+
+def box_groups(lo, hi, *, min_solids=GROUP_MIN_SOLIDS):
+    """Spatially compact groups of about ``sqrt(S)`` solids and their bounding boxes.
+
+    The groups are the leaves of a median split of the box centres along the axis of
+    largest spread (a two-level bounding-volume hierarchy), so that a ray tests the
+    group boxes first and the member boxes of the groups it meets only.
+
+    Parameters
+    ----------
+    lo, hi : (S, 3) float [m]
+        Solid bounding boxes.
+    min_solids : int
+        Below or at this many solids no groups are formed.
+
+    Returns
+    -------
+    group_lo, group_hi : (G, 3) float [m] or None
+    members : (G, K) int or None
+        Solid indices of each group, ``-1`` padding.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> c = np.arange(40.0)[:, None] * [1.0, 0, 0]
+    >>> glo, ghi, mem = box_groups(c - 0.1, c + 0.1)
+    >>> mem.shape, sorted(mem[mem >= 0].tolist()) == list(range(40))
+    ((8, 5), True)
+    """
+    S = len(lo)
+    if S <= min_solids:
+        return None, None, None
+    size = int(np.ceil(np.sqrt(S)))
+    centre = 0.5 * (np.asarray(lo) + np.asarray(hi))
+    leaves = []
+    todo = [np.arange(S)]
+    while todo:
+        idx = todo.pop()
+        if len(idx) <= size:
+            leaves.append(np.sort(idx))
+            continue
+        c = centre[idx]
+        axis = int(np.argmax(c.max(axis=0) - c.min(axis=0)))
+        order = idx[np.argsort(c[:, axis], kind="stable")]
+        half = len(order) // 2
+        todo.extend([order[half:], order[:half]])
+    leaves.sort(key=lambda a: int(a[0]))
+    members = np.full((len(leaves), max(len(a) for a in leaves)), -1, dtype=np.int64)
+    glo = np.empty((len(leaves), 3))
+    ghi = np.empty((len(leaves), 3))
+    for g, a in enumerate(leaves):
+        members[g, : len(a)] = a
+        glo[g] = lo[a].min(axis=0)
+        ghi[g] = hi[a].max(axis=0)
+    return glo, ghi, members
 
 
 def on_partner_face(cs: CompiledScene, points: np.ndarray, partner: np.ndarray) -> np.ndarray:

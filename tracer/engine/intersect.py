@@ -25,9 +25,50 @@ from .compile import CompiledScene
 
 __all__ = ["nearest_hit", "box_candidates"]
 
+_BIG = np.finfo(float).max
+
 
 def _dot(a, b):
     return a[..., 0] * b[..., 0] + a[..., 1] * b[..., 1] + a[..., 2] * b[..., 2]
+
+
+def _inverse(direction):
+    # a zero component becomes a tiny one of the same sign: no 0 * inf
+    return 1.0 / np.where(direction == 0, 1e-300, direction)
+
+
+def _slab(lo, hi, origin, inv):
+    """Entry distance of rays into boxes (slab test), ``inf`` where a box is missed.
+
+    Parameters
+    ----------
+    lo, hi : tuple of three (1, K) or (m, K) float arrays [m]
+        Box corners by axis.
+    origin, inv : (m, 3) float
+        Ray origins [m] and inverse directions [1/1].
+
+    Returns
+    -------
+    (m, K) float [m]
+        ``max(t_enter, 0)`` where the ray's half-line ``t >= 0`` meets the box.
+    """
+    tmin = tmax = None
+    for a in range(3):
+        oa = origin[:, a, None]
+        ia = inv[:, a, None]
+        t1 = lo[a] - oa
+        t1 *= ia
+        t2 = hi[a] - oa
+        t2 *= ia
+        if tmin is None:
+            tmin = np.minimum(t1, t2)
+            tmax = np.maximum(t1, t2, out=t2)
+        else:
+            np.maximum(tmin, np.minimum(t1, t2), out=tmin)
+            np.minimum(tmax, np.maximum(t1, t2, out=t1), out=tmax)
+    np.maximum(tmin, 0.0, out=tmin)
+    tmin[tmax < tmin] = np.inf
+    return tmin
 
 
 def box_candidates(lo, hi, origin, direction):
@@ -41,48 +82,58 @@ def box_candidates(lo, hi, origin, direction):
     Returns
     -------
     ray, box : (P,) int
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> lo, hi = np.array([[-1.0, -1, 1], [-1, -1, -3]]), np.array([[1.0, 1, 2], [1, 1, -2]])
+    >>> r, b = box_candidates(lo, hi, np.zeros((1, 3)), np.array([[0.0, 0, 1]]))
+    >>> r.tolist(), b.tolist()
+    ([0], [0])
     """
-    # a zero component becomes a tiny one of the same sign: no 0 * inf
-    safe = np.where(direction == 0, 1e-300, direction)
-    inv = 1.0 / safe
-    tmin = np.full((len(origin), len(lo)), -np.inf)
-    tmax = np.full((len(origin), len(lo)), np.inf)
-    for a in range(3):
-        t1 = (lo[None, :, a] - origin[:, None, a]) * inv[:, None, a]
-        t2 = (hi[None, :, a] - origin[:, None, a]) * inv[:, None, a]
-        np.maximum(tmin, np.minimum(t1, t2), out=tmin)
-        np.minimum(tmax, np.maximum(t1, t2), out=tmax)
-    hit = tmax >= np.maximum(tmin, 0.0)
-    return np.nonzero(hit)
+    lo = np.asarray(lo, dtype=float)
+    hi = np.asarray(hi, dtype=float)
+    tn = _slab(tuple(lo[None, :, a] for a in range(3)), tuple(hi[None, :, a] for a in range(3)),
+               np.asarray(origin, dtype=float), _inverse(np.asarray(direction, dtype=float)))
+    return np.nonzero(np.isfinite(tn))
+
+
+def _planes(cs, solid, origin, direction):
+    """``den = n . k`` and ``num = d - n . o`` for every plane of ``solid`` (m, P)."""
+    nx, ny, nz = cs.plane_nx[solid], cs.plane_ny[solid], cs.plane_nz[solid]
+    den = nx * direction[:, 0, None]
+    den += ny * direction[:, 1, None]
+    den += nz * direction[:, 2, None]
+    num = nx * origin[:, 0, None]
+    num += ny * origin[:, 1, None]
+    num += nz * origin[:, 2, None]
+    np.subtract(cs.plane_d[solid], num, out=num)
+    return den, num
 
 
 def _enter_convex(cs, origin, direction, solid):
-    pn = cs.plane_n[solid]
-    pd = cs.plane_d[solid]
-    den = _dot(pn, direction[:, None, :])
-    num = pd - _dot(pn, origin[:, None, :])
+    den, num = _planes(cs, solid, origin, direction)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
-    t_in = np.where(den < 0, t, -np.inf)
-    t_out = np.where(den > 0, t, np.inf)
+    neg = den < 0
+    pos = den > 0
+    t_in = np.where(neg, t, -np.inf)
     k = np.argmax(t_in, axis=1)
     rows = np.arange(len(solid))
     te = t_in[rows, k]
-    tx = t_out.min(axis=1)
-    miss = ((den == 0) & (num < 0)).any(axis=1)
+    tx = np.where(pos, t, np.inf).min(axis=1)
+    neg |= pos
+    miss = (~neg & (num < 0)).any(axis=1)
     hit = (~miss) & (te <= tx) & (tx > PLANE_EPS) & (te > -PLANE_EPS)
     return np.where(hit, np.maximum(te, 0.0), np.inf), np.where(hit, cs.plane_face[solid, k], -1)
 
 
 def _exit_convex(cs, origin, direction, solid, last_face):
-    pn = cs.plane_n[solid]
-    pd = cs.plane_d[solid]
-    den = _dot(pn, direction[:, None, :])
-    num = pd - _dot(pn, origin[:, None, :])
+    den, num = _planes(cs, solid, origin, direction)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
     pf = cs.plane_face[solid]
-    t = np.where((den > 0) & (pf != last_face[:, None]), t, np.inf)
+    t[~((den > 0) & (pf != last_face[:, None]))] = np.inf
     k = np.argmin(t, axis=1)
     rows = np.arange(len(solid))
     tt = t[rows, k]
@@ -99,6 +150,149 @@ def _mesh(cs, s, origin, direction, inside):
     ok = (f >= 0) & np.isfinite(t)
     gid = np.where(ok, cs.plane_face[s, 0] + f, -1) if cs.plane_face[s, 0] >= 0 else f
     return np.where(ok, t + RAY_OFFSET, np.inf), gid
+
+
+def _left_behind(cs, origin, direction, last_face):
+    """Per ray, the convex solid it has just left and provably cannot re-enter, else -1.
+
+    A ray that left (or was reflected off) face ``f`` of a convex solid lies on the
+    outer side of ``f``'s plane: the solid's exit distance along the ray is at most the
+    distance ``t_f`` to that plane, and :func:`_enter_convex` reports no hit when it is
+    below ``PLANE_EPS``. ``t_f`` is computed here with the same arithmetic, so skipping
+    the solid changes no result.
+    """
+    skip = np.full(len(origin), -1, dtype=np.int64)
+    i = np.nonzero(last_face >= 0)[0]
+    if not len(i):
+        return skip
+    f = last_face[i]
+    s = cs.face_solid[f]
+    ok = s >= 0
+    i, f, s = i[ok], f[ok], s[ok]
+    ok = cs.convex[s]
+    i, f, s = i[ok], f[ok], s[ok]
+    if not len(i):
+        return skip
+    j = cs.face_local[f]
+    nx, ny, nz = cs.plane_nx[s, j], cs.plane_ny[s, j], cs.plane_nz[s, j]
+    d, o = direction[i], origin[i]
+    den = nx * d[:, 0]
+    den += ny * d[:, 1]
+    den += nz * d[:, 2]
+    num = nx * o[:, 0]
+    num += ny * o[:, 1]
+    num += nz * o[:, 2]
+    num = cs.plane_d[s, j] - num
+    with np.errstate(divide="ignore", invalid="ignore"):
+        tf = num / den
+    gone = (den > 0) & (tf <= PLANE_EPS)
+    skip[i[gone]] = s[gone]
+    return skip
+
+
+class _Entry:
+    """Nearest entry of rays in the ambient into any solid (ordered broad phase).
+
+    Candidates (boxes, or groups of boxes) are visited nearest box first: round 0 tests
+    the nearest candidate of every ray, round 1 every other candidate whose box entry
+    is not beyond the best hit so far. A solid further than the best hit cannot win, so
+    the result equals testing every candidate; ties (equal distance) go to the higher
+    solid index.
+    """
+
+    def __init__(self, cs, origin, direction, last_face):
+        self.cs = cs
+        self.o = origin
+        self.d = direction
+        self.inv = _inverse(direction)
+        n = len(origin)
+        self.skip = _left_behind(cs, origin, direction, last_face)
+        self.t = np.full(n, np.inf)
+        self.solid = np.full(n, -1, dtype=np.int64)
+        self.face = np.full(n, -1, dtype=np.int64)
+        self.lo = tuple(np.ascontiguousarray(cs.box_lo[:, a]) for a in range(3))
+        self.hi = tuple(np.ascontiguousarray(cs.box_hi[:, a]) for a in range(3))
+
+    def run(self):
+        cs = self.cs
+        rays = np.arange(len(self.o))
+        if cs.group_members is None:
+            tn = _slab(tuple(a[None] for a in self.lo), tuple(a[None] for a in self.hi),
+                       self.o, self.inv)
+            sk = np.nonzero(self.skip >= 0)[0]
+            tn[sk, self.skip[sk]] = np.inf
+            self._rounds(rays, None, tn, self._narrow, unique=True)
+        else:
+            glo, ghi = cs.group_lo, cs.group_hi
+            tg = _slab(tuple(glo[None, :, a] for a in range(3)),
+                       tuple(ghi[None, :, a] for a in range(3)), self.o, self.inv)
+            self._rounds(rays, None, tg, self._members, unique=True)
+        return self.t, self.face
+
+    def _rounds(self, rays, items, tn, visit, unique):
+        """Visit the candidates ``items`` (None: the columns) of ``rays`` in two rounds."""
+        m = len(rays)
+        if m == 0:
+            return
+        rows = np.arange(m)
+        first = np.argmin(tn, axis=1)
+        t0 = tn[rows, first]
+        has = t0 < np.inf
+        if not has.any():
+            return
+        h = np.nonzero(has)[0]
+        visit(rays[h], first[h] if items is None else items[h, first[h]], unique)
+        if tn.shape[1] == 1:
+            return
+        tn[rows, first] = np.inf
+        # misses are inf: compare with the largest finite float where nothing is hit yet
+        rest = tn <= np.minimum(self.t[rays], _BIG)[:, None]
+        i, j = np.nonzero(rest)
+        if len(i):
+            visit(rays[i], j if items is None else items[i, j], False)
+
+    def _members(self, rays, groups, unique):
+        mem = self.cs.group_members[groups]  # (m, K)
+        valid = mem >= 0
+        mc = np.where(valid, mem, 0)
+        tn = _slab(tuple(a[mc] for a in self.lo), tuple(a[mc] for a in self.hi),
+                   self.o[rays], self.inv[rays])
+        tn[~valid | (mc == self.skip[rays][:, None])] = np.inf
+        self._rounds(rays, mc, tn, self._narrow, unique)
+
+    def _narrow(self, rays, solid, unique):
+        cs = self.cs
+        cv = cs.convex[solid]
+        if cv.all():
+            t, f = _enter_convex(cs, self.o[rays], self.d[rays], solid)
+        else:
+            t = np.full(len(rays), np.inf)
+            f = np.full(len(rays), -1, dtype=np.int64)
+            if cv.any():
+                t[cv], f[cv] = _enter_convex(cs, self.o[rays[cv]], self.d[rays[cv]], solid[cv])
+            for sm in np.unique(solid[~cv]):
+                sel = np.nonzero(solid == sm)[0]
+                t[sel], f[sel] = _mesh(cs, int(sm), self.o[rays[sel]], self.d[rays[sel]], False)
+        self._offer(rays, solid, t, f, unique)
+
+    def _offer(self, rays, solid, t, f, unique):
+        ok = t < np.inf
+        if not ok.all():
+            rays, solid, t, f = rays[ok], solid[ok], t[ok], f[ok]
+        if not len(rays):
+            return
+        if not unique:
+            # best candidate per ray: smallest t, then highest solid index
+            order = np.lexsort((-solid, t, rays))
+            rs = rays[order]
+            keep = order[np.r_[True, rs[1:] != rs[:-1]]]
+            rays, solid, t, f = rays[keep], solid[keep], t[keep], f[keep]
+        bt = self.t[rays]
+        better = (t < bt) | ((t == bt) & (solid > self.solid[rays]))
+        r = rays[better]
+        self.t[r] = t[better]
+        self.solid[r] = solid[better]
+        self.face[r] = f[better]
 
 
 def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
@@ -142,25 +336,7 @@ def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
     out = ~inside
     if out.any() and cs.n_solids:
         oi = np.nonzero(out)[0]
-        r, b = box_candidates(cs.box_lo, cs.box_hi, origin[oi], direction[oi])
-        if len(r):
-            cvp = cs.convex[b]
-            tp = np.full(len(r), np.inf)
-            fp = np.full(len(r), -1, dtype=np.int64)
-            if cvp.any():
-                rr = oi[r[cvp]]
-                tp[cvp], fp[cvp] = _enter_convex(cs, origin[rr], direction[rr], b[cvp])
-            if (~cvp).any():
-                for sm in np.unique(b[~cvp]):
-                    sel = np.nonzero(b == sm)[0]
-                    rr = oi[r[sel]]
-                    tp[sel], fp[sel] = _mesh(cs, int(sm), origin[rr], direction[rr], False)
-            rays = oi[r]
-            best = np.full(n, np.inf)
-            np.minimum.at(best, rays, tp)
-            win = np.isfinite(tp) & (tp == best[rays])
-            t[rays[win]] = tp[win]
-            face[rays[win]] = fp[win]
+        t[oi], face[oi] = _Entry(cs, origin[oi], direction[oi], last_face[oi]).run()
     # plane detectors ------------------------------------------------------------
     D = len(cs.detector_names)
     if D:
