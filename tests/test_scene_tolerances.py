@@ -165,3 +165,16 @@ def test_cli_run_check_and_tolerance_on_a_toleranced_demo_scene(capsys, tmp_path
     captured = capsys.readouterr()
     assert "tolerances.gap.key" in captured.out + captured.err
     assert "Traceback" not in captured.out + captured.err
+
+
+def test_check_summary_lists_the_tolerances():
+    from tracer.scene import format_summary, summarize
+
+    data = summarize(from_dict(with_tolerances(GOOD), path="x.toml"))
+    assert data["tolerances"]["tilt"] == {"keys": ["solids.lower.rotation[2]", "solids.upper.mate.wedge"],
+                                         "index": None, "dist": "uniform", "scale": "0.5 deg"}
+    assert data["tolerances"]["index"]["index"] == "glass"
+    text = format_summary(data)
+    assert "tolerances (6" in text and "gap: solids.upper.mate.gap, normal, sigma 0.05 um" in text
+    plain = base()
+    assert "tolerances" not in summarize(from_dict(plain, path="x.toml"))

@@ -107,7 +107,7 @@ def summarize(scene: Scene) -> dict:
         for name, r in scene.requirements.items()
     }
     st = scene.settings
-    return {
+    out = {
         "file": scene.path,
         "format": FORMAT_VERSION,
         "title": scene.title,
@@ -125,6 +125,26 @@ def summarize(scene: Scene) -> dict:
         "requirements": requirements,
         "notes": list(scene.notes),
     }
+    tolerances = _tolerances(scene)
+    if tolerances:  # only for scenes that carry [tolerances] (checked by the loader)
+        out["tolerances"] = tolerances
+    return out
+
+
+def _tolerances(scene: Scene) -> dict:
+    """``{name: {keys, index, dist, scale}}`` of the scene's ``[tolerances.NAME]`` tables."""
+    tables = (scene.raw or {}).get("tolerances") or {}
+    out = {}
+    for name, t in tables.items():
+        dist = t.get("dist", "normal")
+        keys = t.get("key")
+        out[name] = {
+            "keys": ([keys] if isinstance(keys, str) else list(keys)) if keys is not None else None,
+            "index": t.get("index"),
+            "dist": dist,
+            "scale": t.get("sigma" if dist == "normal" else "half_width"),
+        }
+    return out
 
 
 def _len(x) -> str:
@@ -189,6 +209,12 @@ def format_summary(summary: dict) -> str:
             lines.append(f"  {name}: ghost fraction on {target} <= {r['limit']:g}")
         else:
             lines.append(f"  {name}: leakage through {target} <= {r['limit']:g}")
+    if s.get("tolerances"):
+        lines.append(f"tolerances ({len(s['tolerances'])}, for `tracer tolerance`):")
+        for name, t in s["tolerances"].items():
+            what = " + ".join(t["keys"]) if t["keys"] else f"delta-n of {t['index']}"
+            scale = "sigma" if t["dist"] == "normal" else "half width"
+            lines.append(f"  {name}: {what}, {t['dist']}, {scale} {t['scale']}")
     if s["notes"]:
         lines.append(f"notes ({len(s['notes'])}):")
         lines.extend(f"  {n}" for n in s["notes"])
