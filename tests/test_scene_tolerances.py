@@ -140,6 +140,19 @@ def test_default_keys_must_be_optional_keys_of_existing_tables():
     assert p.key == "tolerances.t.key" and 'no key "spinn"' in p.message
     (p,) = problems(_one({"key": "solids.ghost.rotation[2]", "sigma": "1 deg"}))
     assert 'no key "ghost"' in p.message
+    # zero defaults: a position, a mate offset
+    assert problems(_one({"key": "solids.lower.position[0]", "sigma": "1 um"})) == []
+    assert problems(_one({"key": "solids.upper.mate.offset[0]", "sigma": "1 um"})) == []
+    # left out with a default that is not zero (or computed): the runner would start from 0
+    for key, sigma in (("detectors.screen.height", "1 mm"), ("sources.beam.x_axis[0]", 0.01)):
+        (p,) = problems(_one({"key": key, "sigma": sigma}))
+        assert p.key == "tolerances.t.key" and "default is not zero" in p.message
+    doc = with_tolerances({"t": {"key": "trace.power_threshold", "sigma": 1e-7}})
+    doc["trace"] = {"mode": "tree"}
+    (p,) = problems(doc)
+    assert "write the nominal value into the file" in p.message
+    doc["trace"]["power_threshold"] = 1e-6  # written out: accepted
+    assert problems(doc) == []
 
 
 def test_all_problems_reported_together():

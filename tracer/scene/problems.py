@@ -64,8 +64,9 @@ class Problems:
     file: str | None = None
     errors: list[Problem] = field(default_factory=list)
     notes: list[Problem] = field(default_factory=list)
-    #: Every key path the loader asked for (present or not) -> what it was read as
-    #: (a quantity kind, "number", "integer", "string", "boolean", "table", or None).
+    #: Every key path the loader asked for (present or not) -> ``(kind, zero_default)``:
+    #: what it was read as (a quantity kind, "number", "integer", "string", "boolean",
+    #: "table", or None) and whether leaving it out of the file means zero.
     read: dict = field(default_factory=dict, repr=False, compare=False)
 
     def error(self, key: str, message: str, *, line: int | None = None,

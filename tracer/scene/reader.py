@@ -51,6 +51,20 @@ def _is_number(value) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool)
 
 
+_UNSET = object()
+
+
+def _is_zero(default) -> bool:
+    """Whether a default value is zero (a number, or an array of zeros)."""
+    if default is None or isinstance(default, (bool, str)):
+        return False
+    try:
+        arr = np.asarray(default, dtype=float)
+    except (TypeError, ValueError):
+        return False
+    return arr.size > 0 and bool(np.all(arr == 0))
+
+
 class Table:
     """One TOML table with its key path and the problem collector.
 
@@ -77,20 +91,23 @@ class Table:
         self.data = data
         self._known: set[str] = set()
 
-    def _asked(self, name: str, kind: str | None = None) -> None:
+    def _asked(self, name: str, kind: str | None = None, default=_UNSET) -> None:
         """Record in ``problems.read`` that the loader asked for ``name`` (and as what).
 
-        ``kind`` is the quantity kind (``length``, ``angle``, ...) or ``number``,
-        ``integer``, ``string``, ``boolean``, ``table``; ``None`` when read unchecked.
-        The record tells which keys of a table exist in the format, present or left at
-        their defaults (used to check the key paths of ``[tolerances]``).
+        The record is ``(kind, zero_default)``: ``kind`` is the quantity kind
+        (``length``, ``angle``, ...) or ``number``, ``integer``, ``string``, ``boolean``,
+        ``table`` (``None`` when read unchecked), and ``zero_default`` whether a value
+        left out of the file means zero. It tells which keys of a table exist in the
+        format, present or left at their defaults (used to check the key paths of
+        ``[tolerances]``).
         """
         read = getattr(self.problems, "read", None)
         if read is None:
             return
         path = self.path(name)
-        if kind is not None or path not in read:
-            read[path] = kind
+        zero = None if default is _UNSET else _is_zero(default)
+        old_kind, old_zero = read.get(path, (None, False))
+        read[path] = (kind if kind is not None else old_kind, zero if zero is not None else old_zero)
 
     # ------------------------------------------------------------------ basics
     def path(self, name: str) -> str:
@@ -127,10 +144,10 @@ class Table:
         self._asked(name)
         return self.data.get(name, default)
 
-    def _fetch(self, name, required, expected, kind=None):
+    def _fetch(self, name, required, expected, kind=None, default=_UNSET):
         """(present, value); records a missing-key problem when required."""
         self._known.add(name)
-        self._asked(name, kind)
+        self._asked(name, kind, default)
         if name in self.data:
             return True, self.data[name]
         if required:
@@ -207,7 +224,7 @@ class Table:
             expected += f" {'>' if exclusive_minimum else '>='} {minimum:g}"
         if maximum is not None:
             expected += f"{' and' if minimum is not None else ''} <= {maximum:g}"
-        present, value = self._fetch(name, required, expected, "number")
+        present, value = self._fetch(name, required, expected, "number", default)
         if not present:
             return default
         if not _is_number(value) or not math.isfinite(value):
@@ -226,7 +243,7 @@ class Table:
                 minimum: float | None = None, nonempty: bool = True, default=None):
         """An array of finite numbers as a float ndarray."""
         expected = "an array of numbers" + (f" with {length} items" if length else "")
-        present, value = self._fetch(name, required, expected, "number")
+        present, value = self._fetch(name, required, expected, "number", default)
         if not present:
             return default
         if (not isinstance(value, list) or not all(_is_number(v) for v in value)
@@ -290,7 +307,7 @@ class Table:
                  maximum: float | None = None) -> float | None:
         """A physical quantity of ``kind`` (length, angle, power, wavelength) in SI."""
         expected = self.units.expected(kind)
-        present, value = self._fetch(name, required, expected, kind)
+        present, value = self._fetch(name, required, expected, kind, default)
         if not present:
             return default
         return self._convert(name, value, kind, positive=positive, nonnegative=nonnegative,
@@ -334,7 +351,7 @@ class Table:
         expected = f"an array of {self.units.expected_plural(kind)}"
         if lengths:
             expected += f" with {' or '.join(str(n) for n in lengths)} items"
-        present, value = self._fetch(name, required, expected, kind)
+        present, value = self._fetch(name, required, expected, kind, default)
         if not present:
             return default
         if allow_single and not isinstance(value, list):
@@ -358,7 +375,7 @@ class Table:
         sizes = (2, 3) if dimension == 2 else (3,)
         if kind is None:
             expected = f"an array of {' or '.join(map(str, sizes))} numbers"
-            present, value = self._fetch(name, required, expected, "number")
+            present, value = self._fetch(name, required, expected, "number", default)
             if not present:
                 return default
             if (not isinstance(value, list) or len(value) not in sizes
@@ -368,6 +385,7 @@ class Table:
             vec = np.asarray(value, dtype=float)
         else:
             vec = self.quantities(name, kind, required=required, length=sizes)
+            self._asked(name, kind, default)
             if vec is None:
                 return default if not self.has(name) else None
         if vec.size == 2:

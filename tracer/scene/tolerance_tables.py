@@ -23,9 +23,10 @@ Checks (every problem with its key path, ``tolerances.NAME.KEY``):
   ``index``;
 * every key path is well formed (:func:`tracer.sweep.keypath.parse`), does not point into
   ``[tolerances]``, and names a value of the document that is a number or a quantity
-  string - or a value left at its default in an existing table (a rotation, a mate
-  ``gap``), which the tolerance runner starts from zero; arrays, tables, integers,
-  booleans and names are refused;
+  string - or an optional key of an existing table left out of the file whose default
+  is zero (a rotation, a position, a mate ``gap``, ``wedge``, ``spin`` or ``offset``),
+  which the tolerance runner starts from zero; arrays, tables, integers, booleans,
+  names and left-out keys with another default (measured, or non-zero) are refused;
 * ``index`` names a ``constant`` or ``cauchy`` material of ``[materials]`` (the runner
   adds delta-n to its ``n`` or ``A``);
 * ``dist`` is ``"normal"`` or ``"uniform"``; ``sigma`` (normal) or ``half_width``
@@ -87,9 +88,9 @@ def _read_paths(read: dict) -> dict:
     from ..sweep.keypath import KeyPathError, parse
 
     out = {}
-    for path, kind in read.items():
+    for path, entry in read.items():
         try:
-            out[parse(path)] = kind
+            out[parse(path)] = entry
         except KeyPathError:
             continue
     return out
@@ -178,15 +179,20 @@ def _check_path(t: Table, label: str, path: str, document: dict, read: dict):
     base = parts
     while base and isinstance(base[-1], int):
         base = base[:-1]
-    kind = read.get(base)
+    kind, zero_default = read.get(base, (None, False))
     try:
         value = get_value(document, path)
     except KeyPathError as exc:
         if base in read and _parent_exists(document, parts, base):
-            value = None  # left at its default in the file: the runner starts from zero
+            if not zero_default and kind not in _NOT_CONTINUOUS:
+                t.error(label, f'key path "{path}": the value is left out of the file and its default '
+                               "is not zero, but the tolerance runner starts a missing value from "
+                               "zero; write the nominal value into the file to tolerance it")
+                return None
+            value = None  # left at its zero default in the file: the runner starts from zero
         else:
             t.error(label, f"{exc} (a tolerance must name a value of this scene, or one of its "
-                           "optional keys left at its default)")
+                           "optional keys left at a zero default)")
             return None
     if kind in _NOT_CONTINUOUS:
         t.error(label, f'key path "{path}" names {_NOT_CONTINUOUS[kind]}, not a quantity that can '
