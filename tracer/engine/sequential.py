@@ -1,8 +1,8 @@
 """Sequential design paths: follow a declared face sequence.
 
 :func:`trace_sequence` launches the chief ray of a source (its ``position`` along its
-``direction``) and four neighbours (two small lateral offsets along the source's
-``x_axis`` and ``y_axis``, two small tilts about them), and at each face of the
+``direction``) and six neighbours (two small lateral offsets along the source's
+``x_axis`` and ``y_axis``, and tilts of ``+-tilt`` towards each of them), and at each face of the
 sequence keeps the child (reflected or transmitted) whose next hit is the next face of
 the sequence. An entry may force the child with a suffix: ``"upper.exit:T"`` or
 ``"upper.hypotenuse:R"``; without one, the last face keeps the transmitted child
@@ -23,6 +23,19 @@ handedness (+1 upright or rotated, -1 mirrored) and the direction of the image o
 the image rotation. A prism rotated by ``a`` about the axis of a single-reflection
 (mirroring) system turns this angle by ``2a`` (the image of a reflection about an axis
 at angle ``a``).
+
+Angular map: how the output direction turns when the input direction is tilted, the
+2x2 matrix ``A[i, j] = d(slope_i of the output along ox, oy) / d(tilt of the input
+towards x, y)`` [rad/rad] in the same output frame as the image map, from central
+differences of the ``+-tilt`` neighbours (slopes are the direction components over the
+component along the chief output ray). This is the angular magnification of the path
+(common practice for afocal systems and prisms, no source): the identity for a plate or
+any system that turns every direction by the same rotation (a penta prism, two
+reflections), ``|A| != 1`` in the principal plane of a dispersing prism away from minimum
+deviation. ``angular_map_world`` (3x2) gives the same derivatives as world vectors
+``d k_out / d tilt``, free of any choice of output frame: projected on the input axes it
+shows, for a right-angle prism used as a retroreflector, the in-plane inversion (-1)
+and the unchanged out-of-plane component (+1).
 """
 
 from __future__ import annotations
@@ -46,6 +59,9 @@ class SequenceReport:
     """What the design path does (see the module docstring).
 
     Angles in radians in the attributes; :meth:`summary` gives degrees as well.
+    ``image_map`` (2x2 [1]) and ``angular_map`` (2x2 [rad/rad]) are in the output frame
+    ``output_frame`` (rows: ox, oy); ``angular_map_world`` is (3, 2) [1/rad]; all three
+    are None when a neighbour ray left the sequence.
     """
 
     sequence: list
@@ -68,6 +84,9 @@ class SequenceReport:
     output_direction: np.ndarray | None = None
     output_point: np.ndarray | None = None
     neighbours_complete: bool = True
+    angular_map: np.ndarray | None = None
+    angular_map_world: np.ndarray | None = None
+    output_frame: np.ndarray | None = None
 
     def summary(self) -> dict:
         """Plain data (degrees for angles)."""
@@ -93,7 +112,17 @@ class SequenceReport:
             steps=[{k: (f(v) if isinstance(v, (float, np.floating)) else v) for k, v in s.items()}
                    for s in self.steps],
             neighbours_complete=bool(self.neighbours_complete),
+            image_map=_listed(self.image_map),
+            angular_map=_listed(self.angular_map),
+            angular_map_world=_listed(self.angular_map_world),
         )
+
+
+def _listed(a):
+    """Nested lists of floats (None stays None)."""
+    if a is None:
+        return None
+    return [[float(x) for x in row] for row in np.asarray(a, dtype=float)]
 
 
 def _parse(cs, sequence):
@@ -142,7 +171,8 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
         Lateral offset of the neighbour rays (default 1e-4 of the scene size, at
         least 1 nm).
     tilt : float [rad]
-        Tilt of the angular neighbours.
+        Tilt of the angular neighbours (``+-tilt`` towards the source's x and y axes;
+        the angular map is their central difference).
 
     Returns
     -------
@@ -175,8 +205,9 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
             size = 1.0
         offset = max(1e-4 * size, 1e-9)
     p0 = np.asarray(spec.position, float)
-    origins = np.array([p0, p0 + offset * x0, p0 + offset * y0, p0, p0])
-    dirs = np.array([k0, k0, k0, k0 + tilt * x0, k0 + tilt * y0])
+    origins = np.array([p0, p0 + offset * x0, p0 + offset * y0, p0, p0, p0, p0])
+    dirs = np.array([k0, k0, k0, k0 + tilt * x0, k0 + tilt * y0, k0 - tilt * x0,
+                     k0 - tilt * y0])
     dirs /= np.linalg.norm(dirs, axis=1, keepdims=True)
     xr, yr = pol.transverse_frame(dirs, x0)
     M = pol.initial_field_matrix(xr, yr)
@@ -297,7 +328,7 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
     jones = pol.jones_in_frame(M[0], ox, oy)
     coh_out = jones @ J @ jones.conj().T
     stokes = pol.coherency_to_stokes(coh_out)
-    handed = rot = imap = None
+    handed = rot = imap = amap = amap_w = None
     nb_ok = bool(complete and alive.all())
     if nb_ok:
         def image(j):
@@ -308,6 +339,16 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
             return np.array([np.dot(q, ox), np.dot(q, oy)]) / offset
 
         imap = np.column_stack([image(1), image(2)])
+
+        def slopes(j):
+            dj = dirs[j]
+            return np.array([np.dot(dj, ox), np.dot(dj, oy)]) / np.dot(dj, kout)
+
+        # input slopes of neighbours 3..6 are exactly +-tilt (k0 +- tilt x0, normalised)
+        amap = np.column_stack([(slopes(3) - slopes(5)) / (2 * tilt),
+                                (slopes(4) - slopes(6)) / (2 * tilt)])
+        amap_w = np.column_stack([(dirs[3] - dirs[5]) / (2 * tilt),
+                                  (dirs[4] - dirs[6]) / (2 * tilt)])
         det = np.linalg.det(imap)
         handed = int(np.sign(det)) if abs(det) > 1e-9 else 0
         rot = float(np.arctan2(imap[1, 0], imap[0, 0]))
@@ -319,5 +360,6 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
         image_map=imap, jones=jones, retardance=float(pol.retardance(jones)),
         diattenuation=float(pol.diattenuation(jones)), output_stokes=stokes, steps=steps,
         input_direction=kin, output_direction=kout, output_point=pos[0],
-        neighbours_complete=nb_ok,
+        neighbours_complete=nb_ok, angular_map=amap, angular_map_world=amap_w,
+        output_frame=np.array([ox, oy]),
     )
