@@ -415,3 +415,21 @@ def test_lossy_incident_medium_matched_stack_is_transparent():
     np.testing.assert_allclose(np.abs(s.rs), 0, atol=1e-15)
     np.testing.assert_allclose(s.ts, np.exp(1j * 2 * np.pi / WL * 200e-9 * s.ncos_in), rtol=1e-13)
     np.testing.assert_allclose(s.ncos_out, s.ncos_in, rtol=0)
+
+
+def test_lossy_incident_medium_partly_incoherent_matches_tmm_inc_tmm():
+    # Reference: tmm.inc_tmm (S. J. Byrnes, arXiv:1603.02720, 2016), complex th_0 with
+    # n0 sin th_0 = Re(n0) sin(theta) real; a thick incoherent layer between coherent ones.
+    n_in = 1.6 + 1e-4j
+    ns, ds, coh = [2.0, 1.45, 2.1], [100e-9, 20e-6, 80e-9], [True, False, True]
+    for th in (0.0, 0.5, 0.9):
+        s = films.stack(n_in=n_in, layers=list(zip(ns, ds)), n_out=1.5, wavelength=WL, angle=th,
+                        coherent=coh)
+        th0 = np.lib.scimath.arcsin(n_in.real * np.sin(th) / n_in)
+        if not tmm.is_forward_angle(n_in, th0):
+            th0 = np.pi - th0
+        for pol, R, T in (("s", s.Rs, s.Ts), ("p", s.Rp, s.Tp)):
+            ref = tmm.inc_tmm(pol, [n_in, *ns, 1.5], [np.inf, *ds, np.inf], ["i", "c", "i", "c", "i"],
+                              th0, WL)
+            assert R == pytest.approx(ref["R"], abs=1e-12)
+            assert T == pytest.approx(ref["T"], abs=1e-12)
