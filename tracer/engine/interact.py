@@ -45,6 +45,7 @@ import numpy as np
 
 from .. import fresnel
 from .. import polarization as pol
+from ..tolerances import NORMAL_INCIDENCE_SIN
 from .compile import COATED, MIRROR, UNCOATED, CompiledScene, on_partner_face
 from .paths import REFLECT, TIR, TRANSMIT, TUNNEL
 
@@ -125,8 +126,11 @@ class Split:
         """Field matrices (n, 3, 2) of the ``"r"`` or ``"t"`` children at ``index``."""
         d = self.r_dir if child == "r" else self.t_dir
         amp = self.r_amp if child == "r" else self.t_amp
+        if isinstance(index, slice) and index == slice(None):
+            s, d = self.s, d
+            return rebuild(s, _cross(d, s), self.a_s, self.a_p, amp[0], amp[1])
         s = self.s[index]
-        return rebuild(s, np.cross(d[index], s), self.a_s[index], self.a_p[index],
+        return rebuild(s, _cross(d[index], s), self.a_s[index], self.a_p[index],
                        amp[0][index], amp[1][index])
 
     @property
@@ -139,28 +143,55 @@ class Split:
 
 
 class _Coef:
-    """Mutable holder of per-ray coefficients filled group by group."""
+    """Per-ray coefficients filled group by group (``index`` None: every ray at once)."""
+
+    _NAMES = ("rs", "rp", "ts", "tp", "Rs", "Rp", "Ts", "Tp")
 
     def __init__(self, n):
-        self.rs = np.zeros(n, complex)
-        self.rp = np.zeros(n, complex)
-        self.ts = np.zeros(n, complex)
-        self.tp = np.zeros(n, complex)
-        self.Rs = np.zeros(n)
-        self.Rp = np.zeros(n)
-        self.Ts = np.zeros(n)
-        self.Tp = np.zeros(n)
+        self.n = n
+        self.whole = False
 
-    def fill(self, sel, c):
-        self.rs[sel] = c.rs
-        self.rp[sel] = c.rp
-        self.Rs[sel] = c.Rs
-        self.Rp[sel] = c.Rp
-        self.Ts[sel] = c.Ts
-        self.Tp[sel] = c.Tp
+    def _alloc(self):
+        n = self.n
+        for name in self._NAMES:
+            setattr(self, name, np.zeros(n, complex if name.islower() else float))
+
+    def fill(self, index, c):
         # power-normalised transmitted amplitudes (|t~|^2 = T)
-        self.ts[sel] = c.ts * fresnel.amplitude_factor(T=c.Ts, t=c.ts)
-        self.tp[sel] = c.tp * fresnel.amplitude_factor(T=c.Tp, t=c.tp)
+        ts = c.ts * fresnel.amplitude_factor(T=c.Ts, t=c.ts)
+        tp = c.tp * fresnel.amplitude_factor(T=c.Tp, t=c.tp)
+        if index is None:
+            self.whole = True
+            self.rs, self.rp, self.Rs, self.Rp = c.rs, c.rp, c.Rs, c.Rp
+            self.Ts, self.Tp, self.ts, self.tp = c.Ts, c.Tp, ts, tp
+            return
+        if not hasattr(self, "rs"):
+            self._alloc()
+        self.rs[index] = c.rs
+        self.rp[index] = c.rp
+        self.Rs[index] = c.Rs
+        self.Rp[index] = c.Rp
+        self.Ts[index] = c.Ts
+        self.Tp[index] = c.Tp
+        self.ts[index] = ts
+        self.tp[index] = tp
+
+    def mirror(self, index):
+        if index is None:
+            one, zero = np.ones(self.n), np.zeros(self.n)
+            self.rs, self.rp = -one.astype(complex), one.astype(complex)
+            self.Rs, self.Rp, self.Ts, self.Tp = one, one.copy(), zero, zero.copy()
+            self.ts, self.tp = zero.astype(complex), zero.astype(complex)
+            return
+        if not hasattr(self, "rs"):
+            self._alloc()
+        self.rs[index], self.rp[index] = -1.0, 1.0
+        self.Rs[index], self.Rp[index] = 1.0, 1.0
+
+    def finish(self):
+        if not hasattr(self, "rs"):
+            self._alloc()
+        return self
 
 
 def _coated(treatment, *, n_inside, n_outside, wavelength, cos_angle, from_inside):
@@ -227,10 +258,13 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     inside = medium == solid
     gap = cs.face_gap[face]
     across = inside & (gap >= 0)
-    t_face = face.copy()
-    t_origin = position.copy()
-    local_d = np.zeros(n)
-    if across.any():
+    any_across = bool(across.any())
+    t_face = face
+    t_origin = position
+    if any_across:
+        t_face = face.copy()
+        t_origin = position.copy()
+        local_d = np.zeros(n)
         ia = np.nonzero(across)[0]
         pf = cs.face_partner[face[ia]]
         nb = cs.face_normal[pf]
@@ -242,40 +276,62 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         t_face[ia] = pf
         t_origin[ia] = on_b
         local_d[ia] = np.abs(dist)
+        any_across = bool(len(ia))
     # The incident medium's extinction is booked as bulk absorption; an absorbing
     # incident medium has no well-posed plane-wave interface problem (the tangential
     # wave number would be complex), so its coefficients use the real part.
     n1 = ntab[medium + 1, wl_index].real.astype(complex)
+    n_amb = ntab[0, wl_index]
     solid_med = ntab[solid + 1, wl_index]
-    partner_solid = np.where(across, cs.face_solid[np.where(across, cs.face_partner[face], 0)], -1)
-    n2 = np.where(inside, np.where(across, ntab[partner_solid + 1, wl_index], ntab[0, wl_index]),
-                  solid_med)
-    t_medium = np.where(inside, np.where(across, partner_solid, -1), solid)
+    if any_across:
+        partner_solid = np.where(across, cs.face_solid[np.where(across, cs.face_partner[face], 0)],
+                                 -1)
+        n2 = np.where(inside, np.where(across, ntab[partner_solid + 1, wl_index], n_amb),
+                      solid_med)
+        t_medium = np.where(inside, np.where(across, partner_solid, -1), solid)
+    else:
+        n2 = np.where(inside, n_amb, solid_med)
+        t_medium = np.where(inside, -1, solid)
     nhat = np.where(inside[:, None], nf, -nf)
     cos1 = np.clip(_dot(k, nhat), 0.0, 1.0)
 
     code = cs.face_code[face]
     co = _Coef(n)
-    plain = (code == UNCOATED) & ~across
+    plain = code == UNCOATED
+    mirror = code == MIRROR
+    coated = code == COATED
+    if any_across:
+        plain &= ~across
+        mirror &= ~across
+        coated &= ~across
     if plain.any():
-        co.fill(plain, fresnel.coefficients(n1=n1[plain], n2=n2[plain], cos_angle=cos1[plain]))
-    mirror = (code == MIRROR) & ~across
+        if plain.all():
+            co.fill(None, fresnel.coefficients(n1=n1, n2=n2, cos_angle=cos1))
+        else:
+            i = np.nonzero(plain)[0]
+            co.fill(i, fresnel.coefficients(n1=n1[i], n2=n2[i], cos_angle=cos1[i]))
     if mirror.any():
-        co.rs[mirror], co.rp[mirror] = -1.0, 1.0
-        co.Rs[mirror], co.Rp[mirror] = 1.0, 1.0
-    coated = (code == COATED) & ~across
+        co.mirror(None if mirror.all() else np.nonzero(mirror)[0])
     if coated.any():
-        # one call per distinct treatment (faces sharing a coating are solved together)
+        # one call per distinct treatment and side (faces sharing a coating are solved
+        # together; a coating seen from inside and from outside are two problems)
         group = cs.face_group[face]
-        for gi in np.unique(group[coated]):
-            sel = coated & (group == gi)
-            n_in_solid = np.where(inside[sel], n1[sel], n2[sel])
-            n_out = np.where(inside[sel], n2[sel], n1[sel])
-            co.fill(sel, _coated(cs.group_treatment[gi], n_inside=n_in_solid, n_outside=n_out,
-                                 wavelength=wavelength[sel], cos_angle=cos1[sel],
-                                 from_inside=inside[sel]))
+        ci = np.nonzero(coated)[0]
+        gc = group[ci] * 2 + inside[ci]
+        used = np.nonzero(np.bincount(gc))[0]
+        for key in used:
+            gi, from_in = divmod(int(key), 2)
+            sel = ci if len(used) == 1 else ci[gc == key]
+            whole = len(sel) == n
+            idx = None if whole else sel
+            n1s, n2s = (n1, n2) if whole else (n1[sel], n2[sel])
+            n_in_solid, n_out = (n1s, n2s) if from_in else (n2s, n1s)
+            co.fill(idx, _coated(cs.group_treatment[gi], n_inside=n_in_solid, n_outside=n_out,
+                                 wavelength=wavelength if whole else wavelength[sel],
+                                 cos_angle=cos1 if whole else cos1[sel],
+                                 from_inside=bool(from_in)))
     beyond_gap = np.zeros(n, dtype=bool)
-    if across.any():
+    if any_across:
         for f in np.unique(face[across]):
             sel = across & (face == f)
             g = int(gap[np.nonzero(sel)[0][0]])
@@ -287,6 +343,7 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
             co.fill(sel, _gap(cs, g, from_a=from_a, n1=n1[sel], n2=n2[sel], n_gap=n_gap,
                               thickness=local_d[sel], wavelength=wavelength[sel],
                               cos_angle=cos1[sel], coherence_length=coherence_length[sel]))
+    co.finish()
 
     # directions ---------------------------------------------------------------
     r_dir = reflect_direction(k, nhat, cos1)
@@ -298,13 +355,14 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     t_kind = np.where(beyond_gap, TUNNEL, TRANSMIT)
 
     # fields and powers ----------------------------------------------------------
-    s, p_in = pol.sp_basis(k, nhat)
+    s, p_in = sp_basis(k, nhat)
     a_s = _project(s, field)
     a_p = _project(p_in, field)
     Ps = _jpower(a_s, coherency)
     Pp = _jpower(a_p, coherency)
     r_power = co.Rs * Ps + co.Rp * Pp
-    t_power = np.where(t_exists, co.Ts * Ps + co.Tp * Pp, 0.0)
+    t_power = co.Ts * Ps + co.Tp * Pp
+    t_power[~t_exists] = 0.0
     absorbed = power - r_power - t_power
     return Split(
         r_dir=r_dir, r_power=r_power, r_kind=r_kind,
@@ -315,10 +373,45 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     )
 
 
+def sp_basis(k, normal):
+    """:func:`tracer.polarization.sp_basis` for (N, 3) ``k`` and ``normal``, written out.
+
+    The same arithmetic, element by element, so the results are identical (the engine
+    tests check it); only the normal-incidence rows go through the general function.
+    """
+    kx, ky, kz = k[:, 0], k[:, 1], k[:, 2]
+    nx, ny, nz = normal[:, 0], normal[:, 1], normal[:, 2]
+    s = np.empty_like(k)
+    s[:, 0] = ky * nz - kz * ny
+    s[:, 1] = kz * nx - kx * nz
+    s[:, 2] = kx * ny - ky * nx
+    ns = np.sqrt(_dot(s, s))
+    kn = np.sqrt(kx * kx + ky * ky + kz * kz)
+    scale = kn * np.sqrt(nx * nx + ny * ny + nz * nz)
+    normal_inc = ns < NORMAL_INCIDENCE_SIN * scale
+    if normal_inc.any():
+        s[normal_inc] = pol.sp_basis(k[normal_inc], normal[normal_inc])[0]
+        ns[normal_inc] = 1.0
+    s /= ns[:, None]
+    u = k / kn[:, None]
+    return s, _cross(u, s)
+
+
+def _cross(a, b):
+    out = np.empty_like(a)
+    out[:, 0] = a[:, 1] * b[:, 2] - a[:, 2] * b[:, 1]
+    out[:, 1] = a[:, 2] * b[:, 0] - a[:, 0] * b[:, 2]
+    out[:, 2] = a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]
+    return out
+
+
 def _project(v, field):
     """(N, 2) components ``v . M[:, :, k]`` of the field matrices along unit ``v``."""
-    return (v[:, 0, None] * field[:, 0, :] + v[:, 1, None] * field[:, 1, :]
-            + v[:, 2, None] * field[:, 2, :])
+    f = np.ascontiguousarray(field).view(float)  # (N, 3, 4): re, im of both columns
+    out = v[:, 0, None] * f[:, 0, :]
+    out += v[:, 1, None] * f[:, 1, :]
+    out += v[:, 2, None] * f[:, 2, :]
+    return out.view(complex)
 
 
 def _jpower(a, J):
@@ -334,9 +427,11 @@ def rebuild(s, p_out, a_s, a_p, amp_s, amp_p):
     The same construction as :func:`tracer.polarization.apply_interface`, written out
     for speed (the engine tests check that the two agree).
     """
-    cs = amp_s[:, None] * a_s
-    cp = amp_p[:, None] * a_p
-    return s[:, :, None] * cs[:, None, :] + p_out[:, :, None] * cp[:, None, :]
+    cs = (amp_s[:, None] * a_s).view(float)  # (N, 4)
+    cp = (amp_p[:, None] * a_p).view(float)
+    out = s[:, :, None] * cs[:, None, :]
+    out += p_out[:, :, None] * cp[:, None, :]
+    return out.view(complex)
 
 
 def _unit_amp(R, r):
