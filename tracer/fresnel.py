@@ -53,7 +53,7 @@ other medium uses the same ``β``; the critical angle is ``arcsin(Re(n2) / Re(n1
 lossless ``n2``.
 
 In an absorbing medium of incidence the incident and reflected waves interfere in the
-normal power flux, so the flux entering the face is not ``1 - R`` (Section 4 of [2]):
+normal power flux, so the flux entering the face is not ``1 - R`` (as noted in [2]):
 for s it is ``1 - Rs + 2 Im(q1) Im(rs) / Re(q1)`` (``q1 = n1 cos θ1``), for p
 ``1 - Rp + 2 Im(w1) Im(rp) / Re(w1)`` with ``w1 = q1 / n1^2`` (the Poynting flux of the
 two waves, derived here; ``tmm``'s ``power_entering``). ``A = 1 - R - T`` then holds
