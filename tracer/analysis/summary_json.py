@@ -55,7 +55,17 @@ def _settings(result) -> dict:
         seed=int(o.seed),
         rays_requested=(o.rays if isinstance(o.rays, (int, type(None))) else dict(o.rays)),
         rays_launched={n: int(result.launched[i]) for i, n in enumerate(result.source_names)},
+        ray_range=_ray_range(getattr(o, "ray_range", None)),
     )
+
+
+def _ray_range(r):
+    """The ``ray_range`` setting as plain data (None, [start, stop] or {source: [...]})."""
+    if r is None:
+        return None
+    if isinstance(r, dict):
+        return {str(k): [None if x is None else int(x) for x in v] for k, v in r.items()}
+    return [None if x is None else int(x) for x in r]
 
 
 def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:

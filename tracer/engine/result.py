@@ -10,6 +10,19 @@ Polarisation: Stokes vectors are in each detector's frame (S1 > 0 along the
 detector's ``x_axis``); path Mueller matrices map the source's Stokes vector (in the
 source's input frame, per unit source power) to the detector's, and are meaningful in
 tree mode only (Monte Carlo rescales fields to the carried power).
+
+Tunnelled power: the power that crossed each gap by frustrated TIR, booked by the
+engine at each crossing (:meth:`Result.tunnelled_power`, ``summary()["gaps"]``).
+
+>>> from pathlib import Path
+>>> import tracer
+>>> scene = tracer.load(Path(tracer.__file__).parents[1] / "scenes" / "tir_prism_pair.toml")
+>>> res = tracer.trace(scene, rays=3, power_threshold=1e-30)
+>>> leak = res.tunnelled_power("tir")
+>>> 0 < leak < 1e-15 * res.source_power_w, res.summary()["gaps"]["tir"]["tunnelled_w"] == leak
+(True, True)
+>>> res.hits_dropped
+0
 """
 
 from __future__ import annotations
