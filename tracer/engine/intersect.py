@@ -210,8 +210,14 @@ class _Entry:
         self.t = np.full(n, np.inf)
         self.solid = np.full(n, -1, dtype=np.int64)
         self.face = np.full(n, -1, dtype=np.int64)
-        self.lo = tuple(np.ascontiguousarray(cs.box_lo[:, a]) for a in range(3))
-        self.hi = tuple(np.ascontiguousarray(cs.box_hi[:, a]) for a in range(3))
+        axes = cs.__dict__.get("_box_axes")
+        if axes is None:  # per-axis contiguous corners, computed once per compiled scene
+            axes = tuple(tuple(np.ascontiguousarray(b[:, a]) for a in range(3))
+                         for b in (cs.box_lo, cs.box_hi, cs.group_lo, cs.group_hi)
+                         if b is not None)
+            cs.__dict__["_box_axes"] = axes
+        self.lo, self.hi = axes[0], axes[1]
+        self.glo, self.ghi = (axes[2], axes[3]) if len(axes) == 4 else (None, None)
 
     def run(self):
         cs = self.cs
@@ -223,9 +229,8 @@ class _Entry:
             tn[sk, self.skip[sk]] = np.inf
             self._rounds(rays, None, tn, self._narrow, unique=True)
         else:
-            glo, ghi = cs.group_lo, cs.group_hi
-            tg = _slab(tuple(glo[None, :, a] for a in range(3)),
-                       tuple(ghi[None, :, a] for a in range(3)), self.o, self.inv)
+            tg = _slab(tuple(a[None] for a in self.glo), tuple(a[None] for a in self.ghi),
+                       self.o, self.inv)
             self._rounds(rays, None, tg, self._members, unique=True)
         return self.t, self.face
 
@@ -348,20 +353,25 @@ def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
         ok = (front | cs.det_two_sided[None]) & (den != 0)
         tol = np.where(inside, PLANE_EPS, -PLANE_EPS)[:, None]
         ok &= td > tol
-        if ok.any():
-            td = np.where(ok, td, np.inf)
-            pts = origin[:, None, :] + np.where(ok, td, 0.0)[..., None] * direction[:, None, :]
-            rel = pts - cs.det_position[None]
-            u = _dot(rel, cs.det_x[None])
-            v = _dot(rel, cs.det_y[None])
-            ok &= (np.abs(u) <= cs.det_half[None, :, 0]) & (np.abs(v) <= cs.det_half[None, :, 1])
-            td = np.where(ok, td, np.inf)
-            k = np.argmin(td, axis=1)
-            tk = td[np.arange(n), k]
+        ri, di = np.nonzero(ok)
+        if len(ri):
+            tp = td[ri, di]
+            rel = origin[ri] + tp[:, None] * direction[ri]
+            rel -= cs.det_position[di]
+            u = _dot(rel, cs.det_x[di])
+            v = _dot(rel, cs.det_y[di])
+            inb = (np.abs(u) <= cs.det_half[di, 0]) & (np.abs(v) <= cs.det_half[di, 1])
+            ri, di, tp = ri[inb], di[inb], tp[inb]
+            if D > 1 and len(ri):  # nearest detector per ray (lowest index on ties)
+                order = np.lexsort((di, tp, ri))
+                rs = ri[order]
+                first = order[np.r_[True, rs[1:] != rs[:-1]]]
+                ri, di, tp = ri[first], di[first], tp[first]
             # ties with a face the detector lies on: rays inside meet the face first
             # (they must still cross it), rays outside meet the detector first
-            slack = np.where(inside, -PLANE_EPS, PLANE_EPS)
-            better = np.isfinite(tk) & (tk <= t + slack)
-            t[better] = np.maximum(tk[better], 0.0)
-            face[better] = cs.n_faces + k[better]
+            slack = np.where(inside[ri], -PLANE_EPS, PLANE_EPS)
+            better = tp <= t[ri] + slack
+            rb = ri[better]
+            t[rb] = np.maximum(tp[better], 0.0)
+            face[rb] = cs.n_faces + di[better]
     return t, face
