@@ -65,3 +65,24 @@ def test_mesh_ledger_closes_for_a_cone_of_rays(mode):
     assert abs(t["residual_w"]) <= 1e-12 * t["source_w"]
     assert t["cut_w"] <= 1e-3 * t["source_w"]
     assert res.ledger.breakdown()["lost_w"] == 0.0
+
+
+def test_l_shape_loaded_from_an_stl_file_through_trimesh(tmp_path):
+    from tracer.geometry.mesh import load_mesh
+
+    path = tmp_path / "l_shape.stl"
+    extruded = extrude_polygon(L_SHAPE / MM, height=20.0)  # file in millimetres
+    extruded.to_trimesh().export(path)
+    g = load_mesh(path, unit=MM)
+    assert not g.is_convex
+    assert g.volume == pytest.approx(extruded.volume * MM**3, rel=1e-9)
+    sc = scene(solids=[solid("part", g, n=N)],
+               sources=[beam(position=(-5 * MM, 5 * MM, 0), direction=(1, 0, 0), x_axis=(0, 0, 1))],
+               detectors=[plane("camera", (30 * MM, 5 * MM, 0), (-1, 0, 0), size=(0.2, 0.2))],
+               threshold=1e-15, max_events=400)
+    res = trace(sc)
+    first = res.paths("camera")[0]
+    assert [k for _, k in first["events"]] == ["transmit", "transmit", "detect"]
+    assert first["power_w"] == pytest.approx(T**2, rel=1e-12)
+    assert res.detector_power("camera") == pytest.approx((1 - R) / (1 + R), rel=1e-10)
+    assert abs(res.ledger.totals()["residual_w"]) < 1e-13

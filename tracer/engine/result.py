@@ -352,7 +352,8 @@ class Result:
             )
         for d in self.compiled.far_fields:
             out["detectors"][d.name] = dict(kind="far_field", power_w=self.detector_power(d.name),
-                                            paths=self.escaped_paths(max_paths))
+                                            paths=self.escaped_paths(max_paths),
+                                            hits_dropped=self.hits_dropped_on(d.name))
         ledger = led.breakdown()
         ledger["per_source"] = {n: led.totals(i) for i, n in enumerate(led.sources)}
         out["ledger"] = ledger
