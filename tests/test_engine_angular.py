@@ -20,7 +20,7 @@ import pytest
 
 from tracer.engine import trace_sequence
 
-from engine_factory import beam, box, moved, prism, right_angle, rot_z, scene, solid
+from engine_factory import beam, box, prism, right_angle, rot_z, scene, solid
 from test_engine_physics import _penta
 
 
