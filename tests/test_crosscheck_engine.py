@@ -157,3 +157,97 @@ def test_coefficients_command_against_tmm(tmp_path, capsys):
             assert d["R" + pol][i] == pytest.approx(tmm_R([ng, na, ng], [INF, t, INF], th, lam, pol), abs=1e-10)
             assert d["T" + pol][i] == pytest.approx(tmm_T([ng, na, ng], [INF, t, INF], th, lam, pol), abs=1e-10)
     capsys.readouterr()
+
+
+def test_tir_pair_sequential_per_wavelength():
+    """Sequential design path of the TIR pair at each line: throughput = T_AR^2 (1 - T_gap)
+    for unpolarised light and the reported TIR-face leakage = mean gap T of s and p
+    (tmm; quarter-wave MgF2 AR at 550 nm; air by Ciddor, glass by its code)."""
+    from pathlib import Path
+
+    sc = tracer.load(Path(__file__).resolve().parent.parent / "scenes" / "tir_prism_pair.toml")
+    mg = lambda lam: sellmeier(lam * 1e6, (0.48755108, 0.39875031, 2.3120353),  # noqa: E731
+                               (0.04338408**2, 0.09461442**2, 23.793604**2))
+    d = 550e-9 / (4 * mg(550e-9))
+    for lam in [460e-9, 550e-9, 620e-9]:
+        na, ng, nm = ciddor(lam * 1e6), cauchy_from_code(1.517, 64.2, lam * 1e6), mg(lam)
+        Tin = tmm_T([na, nm, ng], [INF, d, INF], 0.0, lam, "s")
+        Tout = tmm_T([ng, nm, na], [INF, d, INF], 0.0, lam, "s")
+        Tg = {p: tmm_T([ng, na, ng], [INF, 5e-6, INF], math.radians(45), lam, p) for p in "sp"}
+        rep = tracer.trace_sequence(sc, wavelength=lam)
+        assert rep.throughput == pytest.approx(Tin * Tout * (1 - 0.5 * (Tg["s"] + Tg["p"])), rel=1e-12)
+        tir = rep.steps[1]
+        assert tir["kind"] == "TIR"
+        assert tir["leakage"] == pytest.approx(0.5 * (Tg["s"] + Tg["p"]), rel=1e-6)
+        assert tir["critical_angle_deg"] == pytest.approx(math.degrees(math.asin(na / ng)), abs=1e-9)
+
+
+ROTATED = TILTED.replace("rotation = [0, 0, {tilt}]", "rotation = [{rx}, {ry}, {rz}]")
+
+
+@pytest.mark.parametrize("rot", [(0, 30, 40), (25, 0, 35), (10, 20, 30)])
+def test_rotation_convention_extrinsic_xyz(tmp_path, rot):
+    """Scene rotation [rx, ry, rz]: extrinsic about x, then y, then z (matrix Rz Ry Rx; the
+    documented convention). The plate's front normal R (-1, 0, 0) fixes the angle of
+    incidence of a +x beam (rotation matrices, common practice)."""
+    def R(axis, deg):
+        a = math.radians(deg)
+        c, s = math.cos(a), math.sin(a)
+        return {"x": np.array([[1, 0, 0], [0, c, -s], [0, s, c]]),
+                "y": np.array([[c, 0, s], [0, 1, 0], [-s, 0, c]]),
+                "z": np.array([[c, -s, 0], [s, c, 0], [0, 0, 1]])}[axis]
+
+    p = tmp_path / "r.toml"
+    p.write_text(ROTATED.format(rx=rot[0], ry=rot[1], rz=rot[2]))
+    rep = tracer.trace_sequence(tracer.load(p))
+    nrm = R("z", rot[2]) @ R("y", rot[1]) @ R("x", rot[0]) @ np.array([-1.0, 0, 0])
+    aoi = math.degrees(math.acos(abs(nrm[0])))
+    assert rep.steps[0]["angle_of_incidence_deg"] == pytest.approx(aoi, abs=1e-9)
+
+
+FAR = '''format = 1
+title = "point source"
+dimension = 3
+length_unit = "mm"
+ambient = "vacuum"
+[spectrum]
+wavelengths = ["550 nm"]
+[sources.lamp]
+kind = "point"
+position = [0, 0, 0]
+direction = [0, 0, 1]
+half_angle = "90 deg"
+rays = 18000
+power = "1 W"
+[detectors.sky]
+kind = "far_field"
+axis = [0, 0, 1]
+pixels = [12, 18]
+'''
+
+
+def test_far_field_isotropic_hemisphere(tmp_path):
+    """A point source filling a hemisphere evenly in solid angle: radiant intensity
+    P/(2 pi) W/sr in every polar band (exact bin solid angles; definition of intensity)."""
+    p = tmp_path / "ff.toml"
+    p.write_text(FAR)
+    r = tracer.trace(tracer.load(p))
+    I = r.record("sky").intensity()  # (n_polar, n_azimuth)
+    band = I.mean(axis=1)
+    np.testing.assert_allclose(band[:9], 1 / (2 * math.pi), rtol=2e-3)
+    np.testing.assert_allclose(band[9:], 0.0, atol=0)
+
+
+def test_monte_carlo_unbiased_plate():
+    """Monte Carlo mode on the uncoated plate: detected power T^2/(1 - R^2) of the source
+    (incoherent sum over all passes) within 4 standard deviations of a Bernoulli count."""
+    from pathlib import Path
+
+    sc = tracer.load(Path(__file__).resolve().parent.parent / "scenes" / "plate_ghost.toml")
+    N = 20000
+    r = tracer.trace(sc, mode="monte-carlo", rays=N)
+    n = cauchy_from_code(1.517, 64.2, 0.55) / ciddor(0.55)
+    R = ((n - 1) / (n + 1)) ** 2
+    q = (1 - R) ** 2 / (1 - R * R)
+    got = r.detector_power("screen") / 1e-3
+    assert abs(got - q) < 4 * math.sqrt(q * (1 - q) / N)

@@ -162,3 +162,34 @@ def test_incoherent_plate_closed_form():
     s = films.stack(n_in=1.0, layers=[(n, 1e-3)], n_out=1.0, wavelength=550e-9, angle=0.0,
                     coherent=False)
     assert float(s.Ts) == pytest.approx(2 * n / (n * n + 1), abs=1e-14)
+
+
+@pytest.mark.parametrize("nH,nL,ns", [(2.0, 1.38, 1.52), (2.16, 1.38, 1.45), (2.35, 1.46, 1.52)])
+def test_v_coat_design_zero_reflectance(nH, nL, ns):
+    """tracer.coatings.v_coat thicknesses give R = 0 at the design wavelength, normal
+    incidence from n0 = 1 (tmm with the layers met outside-in: L then H)."""
+    from tracer import coatings
+
+    c = coatings.v_coat(high=nH, low=nL, substrate=ns, design_wavelength=550e-9)
+    dH, dL = c.thicknesses
+    assert tmm.coh_tmm("s", [1.0, nL, nH, ns], [INF, dL, dH, INF], 0.0, 550e-9)["R"] < 1e-20
+
+
+def test_quarter_wave_constructors():
+    """Single quarter wave: R = ((ns - n^2)/(ns + n^2))^2; (HL)^3 H mirror: Y = (nH/nL)^6
+    nH^2/ns, R = ((1 - Y)/(1 + Y))^2 (Macleod, quarter-wave layers and stacks); a layer
+    designed for 45 deg in air has phase thickness pi/2 there (tmm)."""
+    from tracer import coatings
+
+    q = coatings.quarter_wave(material=1.38, design_wavelength=550e-9)
+    R = tmm.coh_tmm("s", [1.0, 1.38, 1.52], [INF, q.thicknesses[0], INF], 0.0, 550e-9)["R"]
+    assert R == pytest.approx(((1.52 - 1.38**2) / (1.52 + 1.38**2)) ** 2, abs=1e-14)
+    m = coatings.quarter_wave_mirror(high=2.35, low=1.38, pairs=3, design_wavelength=550e-9)
+    ns_ = [1.0] + [n for n, _ in m.spec[::-1]] + [1.52]
+    ds_ = [INF] + [d for _, d in m.spec[::-1]] + [INF]
+    Y = (2.35 / 1.38) ** 6 * 2.35**2 / 1.52
+    assert tmm.coh_tmm("s", ns_, ds_, 0.0, 550e-9)["R"] == pytest.approx(((1 - Y) / (1 + Y)) ** 2, abs=1e-12)
+    q45 = coatings.quarter_wave(material=1.38, design_wavelength=550e-9, n_ambient=1.0,
+                                design_angle=math.radians(45))
+    delta = 2 * math.pi / 550e-9 * q45.thicknesses[0] * math.sqrt(1.38**2 - 0.5)
+    assert delta == pytest.approx(math.pi / 2, rel=1e-12)

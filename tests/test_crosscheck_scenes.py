@@ -451,3 +451,24 @@ power = "1 mW"
          for pol in "sp"}
     assert rep.throughput == pytest.approx(0.5 * (T["s"] + T["p"]), rel=1e-9)
     assert rep.diattenuation == pytest.approx((T["p"] - T["s"]) / (T["p"] + T["s"]), rel=1e-6)
+
+
+def test_corner_cube_uncoated_entrance(tmp_path):
+    """Corner cube with its entrance left bare: the six retro paths carry (1 - R)^2 of the
+    power in all, the first-surface reflection R (normal incidence, n = n_silica/n_air at
+    1064 nm, Fresnel), and every pass leaves anti-parallel onto the return detector, so
+    it collects the whole source power (energy conservation; TIR is lossless)."""
+    text = (SCENES / "corner_cube_retroreflector.toml").read_text()
+    text = text.replace('[solids.cube.faces.entrance]\ncoating = "ar_1064"\n', "")
+    assert "ar_1064\"\n\n[sources" not in text
+    p = tmp_path / "bare.toml"
+    p.write_text(text)
+    r = tracer.trace(tracer.load(p))
+    n = SILICA(1064e-9) / AIR(1064e-9)
+    R = ((n - 1) / (n + 1)) ** 2
+    paths = {q["signature"]: q["power_w"] for q in r.paths("return")}
+    retro = [v for k, v in paths.items() if k.count("TIR") == 3 and k.count("entrance:T") == 2]
+    assert len(retro) == 6
+    assert sum(retro) == pytest.approx(10e-3 * (1 - R) ** 2, rel=1e-9)
+    assert paths["probe > cube.entrance:R > return"] == pytest.approx(10e-3 * R, rel=1e-9)
+    assert r.detector_power("return") == pytest.approx(10e-3, rel=1e-6)
