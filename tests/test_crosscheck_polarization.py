@@ -144,3 +144,65 @@ def test_tilted_plate_mueller(tmp_path, tilt):
     assert D == pytest.approx((Tp - Ts) / (Tp + Ts), rel=1e-7)
     # no retardance on transmission through lossless interfaces: M33 = +-sqrt(Ts Tp)
     assert abs(M[3, 3]) == pytest.approx(math.sqrt(Ts * Tp), rel=1e-9)
+
+
+MIRROR = '''format = 1
+title = "mirror"
+dimension = 3
+length_unit = "mm"
+ambient = "vacuum"
+[spectrum]
+wavelengths = ["550 nm"]
+[coatings.m]
+kind = "mirror"
+[solids.plate]
+material = "fused-silica"
+kind = "plate"
+width = "40 mm"
+height = "40 mm"
+thickness = "5 mm"
+rotation = [0, 0, -45]
+[solids.plate.faces.front]
+coating = "m"
+[sources.beam]
+kind = "collimated"
+position = [-30, 0, 0]
+direction = [1, 0, 0]
+aperture = "circle"
+diameter = "2 mm"
+rays = 3
+power = "1 W"
+polarization = {{ kind = "circular", handedness = "{hand}" }}
+[detectors.d2]
+position = [0, 30, 0]
+normal = [0, -1, 0]
+width = "20 mm"
+height = "20 mm"
+pixels = [4, 4]
+'''
+
+
+@pytest.mark.parametrize("hand,s3", [("right", 1.0), ("left", -1.0)])
+def test_perfect_mirror_flips_handedness(tmp_path, hand, s3):
+    """A perfect mirror at 45 deg turns right-circular into left-circular (and back);
+    checked with the Maxwell solver of the oracles at a perfect-conductor-like index
+    n = i 1e5 (first principles) and against the engine's detector Stokes."""
+    from test_crosscheck_oracles import interface_fields, stokes_physical
+
+    p = tmp_path / "m.toml"
+    p.write_text(MIRROR.format(hand=hand))
+    sc = tracer.load(p)
+    r = tracer.trace(sc)
+    S = r.path_stokes("d2")
+    k = np.array([1.0, 0, 0])
+    xa = np.asarray(sc.sources["beam"].x_axis, float)
+    ya = np.cross(k, xa)
+    E = (xa - 1j * s3 * ya) / math.sqrt(2)
+    assert stokes_physical(E, k)[3] == pytest.approx(s3)
+    g = sc.solids["plate"].geometry
+    nrm = np.asarray(g.face_normals[list(g.face_names).index("front")], float)
+    f = interface_fields(n1=1.0, n2=1e5j, k_hat=k, normal=-nrm, E=E)
+    want = stokes_physical(f["Er"], f["kr"])[3]
+    assert want == pytest.approx(-s3, abs=1e-4)
+    assert S[3] / S[0] == pytest.approx(want, abs=1e-4)
+    assert S[0] == pytest.approx(1.0, rel=1e-12)
