@@ -472,3 +472,25 @@ def test_corner_cube_uncoated_entrance(tmp_path):
     assert sum(retro) == pytest.approx(10e-3 * (1 - R) ** 2, rel=1e-9)
     assert paths["probe > cube.entrance:R > return"] == pytest.approx(10e-3 * R, rel=1e-9)
     assert r.detector_power("return") == pytest.approx(10e-3, rel=1e-6)
+
+
+def test_porro_pair_sequential_orientation_and_throughput():
+    """Porro pair design path: four TIRs (an even number of reflections) give an image
+    rotated by 180 deg and not mirrored, output parallel to the input (Porro erecting
+    system; common practice); chief-ray throughput at 486.1 nm = AR T x coherent gap
+    stack T x AR T (tmm with the scene's layers)."""
+    sc = tracer.load(SCENES / "porro_erecting_pair.toml")
+    seq = ["p1.hypotenuse", "p1.leg_a", "p1.leg_b", "p1.hypotenuse", "p2.leg_b", "p2.leg_a",
+           "p2.hypotenuse", "eyepiece"]
+    rep = tracer.trace_sequence(sc, seq)
+    assert rep.complete
+    assert rep.handedness == 1
+    assert abs(abs(math.degrees(rep.image_rotation)) - 180.0) < 1e-6
+    assert math.degrees(rep.deviation) == pytest.approx(0.0, abs=1e-6)
+    lam = 486.1e-9
+    na, ng = AIR(lam), CROWN(lam)
+    lay = _coating_layers(sc.solids["p1"].faces["hypotenuse"], lam)
+    T = (_stack_T(na, lay[::-1], ng, lam, 0.0, "s")
+         * _stack_T(ng, lay + [(na, 1e-3)] + lay[::-1], ng, lam, 0.0, "s")
+         * _stack_T(ng, lay, na, lam, 0.0, "s"))
+    assert rep.throughput == pytest.approx(T, rel=1e-9)
