@@ -1,15 +1,23 @@
 """Engine benchmark: a standard 3D scene of a dozen solids, non-sequential, threshold 1e-6.
 
-Prints from one run: ray-face events per second end to end; the rate of trimesh's
-embree intersector (``intersects_first``, optional ``embreex`` from the ``bench`` extra)
-on the same geometry triangulated, and the ratio of the two; the peak memory; the time
-growth for 10x rays and 10x solids.
+How to run: ``python benchmarks/bench_engine.py [--quick] [--rays N] [--memory N]``
+(embree comparison: ``pip install '.[bench]'``; about 10 min for the full run on one free core).
 
-    python benchmarks/bench_engine.py            # 10^6 source rays
-    python benchmarks/bench_engine.py --quick    # 10^5 source rays, smaller growth runs
+    python benchmarks/bench_engine.py            # 10^6 source rays, growth runs at 10^5 -> 10^6
+    python benchmarks/bench_engine.py --quick    # 10^5 source rays, growth runs at 10^4 -> 10^5
+    python benchmarks/bench_engine.py --memory 10000000   # peak memory of a batched 10^7-ray trace
+
+Prints from one run: ray-face events per second end to end (per core: CPU time of the
+process, and wall time); the rate of trimesh's embree intersector (``intersects_first``)
+on the same geometry triangulated, and the ratio of the two; the time growth for 10x rays
+and for 10x solids (12 -> 120, the same stack made longer) next to the growth of the
+event count; the peak resident memory. ``--memory N`` traces N source rays in the default
+batches and reports the peak resident memory of that process alone. The figures end in a
+small table.
 
 Targets: >= 1.5 million events/s per core end to end, ratio >= 0.2 to bare embree,
-< 2 GB peak for 10^7 source rays (batched).
+time growth for 10x solids close to the growth of the events, < 2 GB peak for 10^7
+source rays (batched).
 """
 
 from __future__ import annotations
@@ -134,24 +142,26 @@ def bench_scene(n_solids=12, rays=10**6, seed=3):
 
 
 def peak_mb():
+    """Peak resident memory of this process so far [MB] (Linux reports KiB)."""
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
 def run_engine(scene, rays, **kw):
+    """Trace and return (result, wall seconds, CPU seconds of this process)."""
+    c0 = time.process_time()
     t0 = time.perf_counter()
     res = trace(scene, rays=rays, progress=False, **kw)
-    dt = time.perf_counter() - t0
-    return res, dt
+    return res, time.perf_counter() - t0, time.process_time() - c0
 
 
 def embree_rate(scene, n_rays=200_000):
-    """Rays/s of trimesh's first-hit query on the triangulated scene, or None."""
+    """Rays/s (wall, CPU) of trimesh's first-hit query on the triangulated scene, or None."""
     try:
         import embreex  # noqa: F401
         import trimesh
         from trimesh.ray import ray_pyembree
     except Exception as exc:  # embreex missing: pip install '.[bench]'
-        return None, f"embree unavailable ({exc.__class__.__name__}: {exc}); pip install '.[bench]'"
+        return None, None, f"embree unavailable ({exc.__class__.__name__}: {exc}); pip install '.[bench]'"
     meshes = []
     for s in scene.solids.values():
         g = s.geometry
@@ -165,44 +175,79 @@ def embree_rate(scene, n_rays=200_000):
     d = np.tile([0, 0, 1.0], (n_rays, 1)) + rng.normal(0, 0.05, (n_rays, 3))
     d /= np.linalg.norm(d, axis=1, keepdims=True)
     inter.intersects_first(o[:1000], d[:1000])
+    c0 = time.process_time()
     t0 = time.perf_counter()
     inter.intersects_first(o, d)
-    dt = time.perf_counter() - t0
-    return n_rays / dt, "embree (trimesh intersects_first)"
+    dt, cpu = time.perf_counter() - t0, time.process_time() - c0
+    return n_rays / dt, n_rays / max(cpu, 1e-9), "embree (trimesh intersects_first)"
+
+
+def memory_run(rays):
+    """Trace ``rays`` source rays in the default batches; print time and peak memory."""
+    sc = bench_scene()
+    res, dt, cpu = run_engine(sc, rays)
+    t = res.ledger.totals()
+    print(f"memory run: {rays:,} source rays, {res.events:,} events, {len(res.tree):,} paths, "
+          f"{cpu:.0f} s CPU ({dt:.0f} s wall), {res.events / cpu / 1e6:.3f} M events/s per core")
+    print(f"ledger residual: {t['residual_w']:.3e} W of {t['source_w']:.3f} W")
+    print(f"peak memory: {peak_mb():.0f} MB (target < 2048 MB)")
 
 
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="10^5 rays, small growth runs")
     ap.add_argument("--rays", type=int, default=None)
+    ap.add_argument("--memory", type=int, default=None, metavar="N",
+                    help="only trace N source rays (batched) and report the peak memory")
     args = ap.parse_args(argv)
+    if args.memory:
+        memory_run(args.memory)
+        return
     rays = args.rays or (10**5 if args.quick else 10**6)
     sc = bench_scene()
-    res, dt = run_engine(sc, rays)
+    trace(sc, rays=1000, progress=False)  # warm-up (imports, caches)
+    res, dt, cpu = run_engine(sc, rays)
     ev = res.events
     t = res.ledger.totals()
+    rate = ev / cpu
     print(f"scene: {len(sc.solids)} solids, {sum(len(s.geometry.face_names) for s in sc.solids.values())} faces")
-    print(f"source rays: {rays:,}  events: {ev:,}  paths: {len(res.tree):,}  time: {dt:.2f} s")
-    print(f"end-to-end rate: {ev / dt / 1e6:.3f} M events/s (one process)")
+    print(f"source rays: {rays:,}  events: {ev:,}  paths: {len(res.tree):,}  "
+          f"time: {cpu:.2f} s CPU, {dt:.2f} s wall")
+    print(f"end-to-end rate: {rate / 1e6:.3f} M events/s per core (CPU time); "
+          f"{ev / dt / 1e6:.3f} M events/s wall")
     print(f"ledger residual: {t['residual_w']:.3e} W of {t['source_w']:.3f} W; "
           f"detected {t['detected_w']:.4f} W, discarded {t['discarded_w']:.2e} W")
-    rate, label = embree_rate(sc)
-    if rate is None:
+    e_wall, e_cpu, label = embree_rate(sc)
+    ratio = None
+    if e_wall is None:
         print(f"bare intersector: {label}")
     else:
-        print(f"bare intersector: {rate / 1e6:.3f} M rays/s [{label}]")
-        print(f"ratio engine/bare: {ev / dt / rate:.3f}")
+        ratio = rate / e_cpu
+        print(f"bare intersector: {e_cpu / 1e6:.3f} M rays/s per core ({e_wall / 1e6:.3f} M rays/s "
+              f"wall) [{label}]")
+        print(f"ratio engine/bare (per core): {ratio:.3f}")
     print(f"peak memory so far: {peak_mb():.0f} MB")
     small = max(rays // 10, 1000)
-    _, dt1 = run_engine(sc, small)
-    _, dt10 = run_engine(sc, small * 10)
-    print(f"time growth for 10x rays ({small:,} -> {small * 10:,}): {dt10 / dt1:.2f}x")
-    sc10 = bench_scene(n_solids=120)
-    r1, dts1 = run_engine(bench_scene(n_solids=12), small)
-    r10, dts10 = run_engine(sc10, small)
-    print(f"time growth for 10x solids (12 -> 120, {small:,} rays): {dts10 / dts1:.2f}x "
-          f"(events {r1.events:,} -> {r10.events:,})")
+    r1, _, c1 = run_engine(sc, small)
+    r10, _, c10 = run_engine(sc, small * 10)
+    print(f"time growth for 10x rays ({small:,} -> {small * 10:,}): {c10 / c1:.2f}x "
+          f"(events {r10.events / r1.events:.2f}x)")
+    s1, _, cs1 = run_engine(bench_scene(n_solids=12), small)
+    s10, _, cs10 = run_engine(bench_scene(n_solids=120), small)
+    print(f"time growth for 10x solids (12 -> 120, {small:,} rays): {cs10 / cs1:.2f}x "
+          f"(events {s1.events:,} -> {s10.events:,}, {s10.events / s1.events:.2f}x; "
+          f"time per event {cs10 / s10.events / (cs1 / s1.events):.2f}x)")
     print(f"peak memory: {peak_mb():.0f} MB")
+    print()
+    print("| figure | value | target |")
+    print("| --- | --- | --- |")
+    print(f"| events/s per core, {rays:,} rays | {rate / 1e6:.2f} M | >= 1.5 M |")
+    if ratio is not None:
+        print(f"| ratio to bare embree (per core) | {ratio:.3f} | >= 0.2 |")
+    print(f"| 10x rays: time / events growth | {c10 / c1:.2f}x / {r10.events / r1.events:.2f}x | ~ equal |")
+    print(f"| 10x solids: time / events growth | {cs10 / cs1:.2f}x / {s10.events / s1.events:.2f}x "
+          f"| ~ equal |")
+    print(f"| peak memory, this run | {peak_mb():.0f} MB | < 2 GB (10^7 rays: --memory) |")
 
 
 if __name__ == "__main__":
