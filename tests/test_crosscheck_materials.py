@@ -117,3 +117,15 @@ def test_constant_indices():
     assert complex(materials.get("cement").refractive_index(550e-9)) == 1.56
     assert complex(materials.get("microwave-dielectric-1.44").refractive_index(0.028)) == 1.44
     assert complex(materials.get("vacuum").refractive_index(550e-9)) == 1.0
+
+
+def test_loss_tangent_index():
+    """Dielectric with loss tangent: eps = eps' (1 + i tan d), n + i k = sqrt(eps) with
+    k ~ n tan d / 2 (exp(-i w t); common practice, e.g. microwave engineering texts)."""
+    from tracer.materials.models import ConstantIndex
+
+    m = ConstantIndex.from_loss_tangent(1.44, 2e-3, name="lossy")
+    n = complex(m.refractive_index(0.028))
+    want = np.sqrt(1.44**2 * (1 + 2e-3j))
+    assert n == pytest.approx(complex(want), abs=1e-15)
+    assert n.imag == pytest.approx(1.44 * 2e-3 / 2, rel=1e-6)
