@@ -10,7 +10,7 @@ import math
 import numpy as np
 import pytest
 
-from test_crosscheck_oracles import INF, cauchy_from_code, ciddor, sellmeier, tmm, tmm_R, tmm_T
+from test_crosscheck_oracles import INF, cauchy_from_code, ciddor, sellmeier, tmm_R, tmm_T
 
 import tracer
 from tracer import cli

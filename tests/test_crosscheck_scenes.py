@@ -23,7 +23,6 @@ from test_crosscheck_oracles import (
     solid_faces,
     stokes_in_frame,
     stokes_physical,
-    tmm,
     tmm_R,
     tmm_T,
     trace_faces,
