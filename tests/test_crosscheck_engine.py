@@ -75,8 +75,6 @@ def test_bulk_absorption_tree(tmp_path):
     assert p[1] == pytest.approx((1 - R) ** 2 * R**2 * a**3, rel=1e-9)
 
 
-@pytest.mark.xfail(strict=True, reason="trace_sequence ignores bulk absorption: the design-path "
-                   "throughput of a lossy solid is reported as the Fresnel product only")
 def test_bulk_absorption_sequential(tmp_path):
     """The sequential design path through the same lossy plate must include e^{-alpha d}."""
     sc, R, a = _absorbing(tmp_path)

@@ -57,14 +57,20 @@ def format_report(s: dict) -> str:
 
     lines = ["design path: " + " > ".join(s["sequence"])]
     body = []
+    # a bulk column only when some segment before a face absorbs (lossy solids)
+    lossy = any(st.get("bulk_transmittance", 1.0) < 1.0 for st in s["steps"])
     for i, st in enumerate(s["steps"], 1):
-        body.append([str(i), st["face"], st["kind"], _deg(st.get("angle_of_incidence_deg")),
-                     _deg(st.get("critical_angle_deg")), _deg(st.get("tir_margin_deg")),
-                     fmt_sci(st.get("leakage")),
-                     fmt_fraction(st.get("power_fraction")) if "power_fraction" in st else
-                     fmt_fraction(st.get("power"))])
-    lines.append(format_table(["step", "face", "event", "incidence [°]", "critical [°]",
-                               "TIR margin [°]", "leakage", "kept"], body, align="r<<rrrrr",
+        row = [str(i), st["face"], st["kind"], _deg(st.get("angle_of_incidence_deg")),
+               _deg(st.get("critical_angle_deg")), _deg(st.get("tir_margin_deg")),
+               fmt_sci(st.get("leakage"))]
+        if lossy:
+            row.append(fmt_fraction(st.get("bulk_transmittance", 1.0)))
+        row.append(fmt_fraction(st.get("power_fraction")) if "power_fraction" in st else
+                   fmt_fraction(st.get("power")))
+        body.append(row)
+    head = ["step", "face", "event", "incidence [°]", "critical [°]", "TIR margin [°]", "leakage"]
+    head += ["bulk before"] if lossy else []
+    lines.append(format_table(head + ["kept"], body, align="r<<rrrr" + "r" * (len(head) - 5),
                               indent="  "))
     if not s["complete"]:
         left = s.get("left_at") or {}

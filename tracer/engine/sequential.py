@@ -239,13 +239,20 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
             break
         alive &= ok
         nmed = ntab[medium + 1, 0]
-        opl = opl + nmed.real * np.where(np.isfinite(t), t, 0.0)
+        seg = np.where(np.isfinite(t), t, 0.0)
+        opl = opl + nmed.real * seg
+        # bulk absorption over the segment (Beer-Lambert, alpha = 4 pi kappa / lambda), as in
+        # the non-sequential trace: field amplitude exp(-2 pi kappa L / lambda)
+        amp = np.exp(-2.0 * np.pi * np.maximum(nmed.imag, 0.0) * seg / wl)
+        bulk_t = float(amp[0] ** 2)
+        power = power * amp**2
+        M = M * amp[:, None, None]
         hit = pos + t[:, None] * dirs
         code = cs.face_code[fid]
         if code in (DETECTOR, ABSORBER):
             pos = hit
             steps.append(dict(face=entry, kind="detect" if code == DETECTOR else "absorb",
-                              power=float(power[0])))
+                              power=float(power[0]), bulk_transmittance=bulk_t))
             if i != len(steps_spec) - 1:
                 left = dict(step=i, expected=steps_spec[i + 1][2], hit=entry, after=entry)
                 alive[:] = False
@@ -296,7 +303,7 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
         crit = fresnel.critical_angle(n1=n1, n2=n_beyond)
         crit = None if np.isnan(crit) else float(crit)
         kind = int(sp.r_kind[0]) if choice == "R" else int(sp.t_kind[0])
-        step = dict(face=entry, kind=KIND_NAMES[kind], child=choice,
+        step = dict(face=entry, kind=KIND_NAMES[kind], child=choice, bulk_transmittance=bulk_t,
                     angle_of_incidence_deg=float(np.degrees(aoi)),
                     critical_angle_deg=None if crit is None else float(np.degrees(crit)),
                     tir_margin_deg=(float(np.degrees(aoi - crit))
