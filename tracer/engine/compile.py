@@ -82,6 +82,8 @@ class CompiledScene:
     plane_nx: np.ndarray = None  # (S, P) normal components, contiguous
     plane_ny: np.ndarray = None
     plane_nz: np.ndarray = None
+    plane_tab: np.ndarray = None  # (4, P, S): nx, ny, nz, d by plane row (narrow phase)
+    plane_face_t: np.ndarray = None  # (P, S) global face id, -1 padding
     group_lo: np.ndarray = None  # (G, 3) box of each group of solids, or None
     group_hi: np.ndarray = None
     group_members: np.ndarray = None  # (G, K) solid indices, -1 padding
@@ -243,6 +245,9 @@ def compile_scene(scene) -> CompiledScene:
         plane_nx=np.ascontiguousarray(plane_n[..., 0]),
         plane_ny=np.ascontiguousarray(plane_n[..., 1]),
         plane_nz=np.ascontiguousarray(plane_n[..., 2]),
+        plane_tab=np.ascontiguousarray(
+            np.concatenate([plane_n, plane_d[..., None]], axis=2).transpose(2, 1, 0)),
+        plane_face_t=np.ascontiguousarray(plane_face.T),
         group_lo=glo,
         group_hi=ghi,
         group_members=gmem,

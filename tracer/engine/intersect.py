@@ -99,46 +99,59 @@ def box_candidates(lo, hi, origin, direction):
 
 
 def _planes(cs, solid, origin, direction):
-    """``den = n . k`` and ``num = d - n . o`` for every plane of ``solid`` (m, P)."""
-    nx, ny, nz = cs.plane_nx[solid], cs.plane_ny[solid], cs.plane_nz[solid]
-    den = nx * direction[:, 0, None]
-    den += ny * direction[:, 1, None]
-    den += nz * direction[:, 2, None]
-    num = nx * origin[:, 0, None]
-    num += ny * origin[:, 1, None]
-    num += nz * origin[:, 2, None]
-    np.subtract(cs.plane_d[solid], num, out=num)
+    """``den = n . k`` and ``num = d - n . o`` for every plane of ``solid``, (P, m).
+
+    Plane-major layout: one contiguous row per plane, so that the reductions over the
+    planes are elementwise operations between rows.
+    """
+    g = np.take(cs.plane_tab, solid, axis=2)  # (4, P, m)
+    dx, dy, dz = direction[:, 0], direction[:, 1], direction[:, 2]
+    den = g[0] * dx
+    den += g[1] * dy
+    den += g[2] * dz
+    num = g[0] * origin[:, 0]
+    num += g[1] * origin[:, 1]
+    num += g[2] * origin[:, 2]
+    np.subtract(g[3], num, out=num)
     return den, num
+
+
+def _first_index(rows, value):
+    """Lowest row index ``j`` with ``rows[j] == value`` (the first arg-extremum)."""
+    k = np.zeros(rows.shape[1], dtype=np.int64)
+    for j in range(rows.shape[0] - 1, 0, -1):
+        k[rows[j] == value] = j
+    k[rows[0] == value] = 0
+    return k
 
 
 def _enter_convex(cs, origin, direction, solid):
     den, num = _planes(cs, solid, origin, direction)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
-    neg = den < 0
-    pos = den > 0
-    t_in = np.where(neg, t, -np.inf)
-    k = np.argmax(t_in, axis=1)
-    rows = np.arange(len(solid))
-    te = t_in[rows, k]
-    tx = np.where(pos, t, np.inf).min(axis=1)
-    neg |= pos
-    miss = (~neg & (num < 0)).any(axis=1)
-    hit = (~miss) & (te <= tx) & (tx > PLANE_EPS) & (te > -PLANE_EPS)
-    return np.where(hit, np.maximum(te, 0.0), np.inf), np.where(hit, cs.plane_face[solid, k], -1)
+    t_in = np.where(den < 0, t, -np.inf)
+    te = t_in.max(axis=0)
+    k = _first_index(t_in, te)
+    t[den <= 0] = np.inf
+    tx = t.min(axis=0)
+    hit = (te <= tx) & (tx > PLANE_EPS) & (te > -PLANE_EPS)
+    zero = den == 0
+    if zero.any():  # parallel to a plane and outside it: no hit
+        zero &= num < 0
+        hit &= ~zero.any(axis=0)
+    return np.where(hit, np.maximum(te, 0.0), np.inf), np.where(hit, cs.plane_face_t[k, solid], -1)
 
 
 def _exit_convex(cs, origin, direction, solid, last_face):
     den, num = _planes(cs, solid, origin, direction)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = num / den
-    pf = cs.plane_face[solid]
-    t[~((den > 0) & (pf != last_face[:, None]))] = np.inf
-    k = np.argmin(t, axis=1)
-    rows = np.arange(len(solid))
-    tt = t[rows, k]
+    pf = np.take(cs.plane_face_t, solid, axis=1)  # (P, m)
+    t[~((den > 0) & (pf != last_face))] = np.inf
+    tt = t.min(axis=0)
+    k = _first_index(t, tt)
     ok = np.isfinite(tt)
-    return np.where(ok, np.maximum(tt, 0.0), np.inf), np.where(ok, pf[rows, k], -1)
+    return np.where(ok, np.maximum(tt, 0.0), np.inf), np.where(ok, pf[k, np.arange(len(k))], -1)
 
 
 def _mesh(cs, s, origin, direction, inside):
