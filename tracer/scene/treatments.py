@@ -8,7 +8,9 @@ Kinds (``kind = ...``):
     ``design_wavelength``), listed from the substrate outwards.
 ``quarter-wave``
     One layer of ``material``, a quarter wave thick at ``design_wavelength`` (at
-    ``design_angle`` of incidence in the ambient, default 0).
+    ``design_angle`` of incidence, default 0, measured in ``design_medium``: a material,
+    default the scene's ambient; name the glass for a buried coating such as a cube's
+    hypotenuse).
 ``v-coat``
     Two-layer antireflection coating of ``high`` (on the substrate) and ``low``
     materials with zero reflectance at ``design_wavelength`` at normal incidence from the
@@ -16,7 +18,7 @@ Kinds (``kind = ...``):
     names a material.
 ``hl-mirror``
     Dielectric mirror (HL)^N H of quarter-wave layers, ``high``, ``low``, ``pairs`` = N,
-    at ``design_wavelength`` (optionally ``design_angle`` in the ambient).
+    at ``design_wavelength`` (optionally ``design_angle`` in ``design_medium``, as above).
 ``ideal``
     Lossless, ``reflectance`` R for both polarisations.
 ``mirror``
@@ -162,9 +164,10 @@ def read_coating(name: str, t: Table, build: Build):
                 mname = t.string("material", required=True)
                 model = resolve_material(build, t.path("material"), mname) if mname else None
                 angle = t.quantity("design_angle", "angle", default=0.0, nonnegative=True)
-                if model is not None and wl is not None and angle is not None:
+                medium = _design_medium(t, build)
+                if model is not None and wl is not None and angle is not None and medium is not None:
                     coating = co.quarter_wave(material=model, design_wavelength=wl,
-                                              n_ambient=_ambient(build), design_angle=angle, name=name)
+                                              n_ambient=medium, design_angle=angle, name=name)
             else:
                 hi_name = t.string("high", required=True)
                 lo_name = t.string("low", required=True)
@@ -173,10 +176,11 @@ def read_coating(name: str, t: Table, build: Build):
                 if kind == "hl-mirror":
                     pairs = t.integer("pairs", required=True, minimum=0, maximum=200)
                     angle = t.quantity("design_angle", "angle", default=0.0, nonnegative=True)
-                    if None not in (hi, lo, wl, pairs, angle):
+                    medium = _design_medium(t, build)
+                    if None not in (hi, lo, wl, pairs, angle, medium):
                         coating = co.quarter_wave_mirror(high=hi, low=lo, pairs=pairs,
                                                          design_wavelength=wl,
-                                                         n_ambient=_ambient(build),
+                                                         n_ambient=medium,
                                                          design_angle=angle, name=name)
                 else:
                     sub_name = t.string("substrate")
@@ -207,3 +211,12 @@ def read_coating(name: str, t: Table, build: Build):
 
 def _ambient(build: Build):
     return build.ambient if build.ambient is not None else 1.0
+
+
+def _design_medium(t: Table, build: Build):
+    """Index model in which ``design_angle`` is measured (``design_medium``, default the
+    ambient); ``None`` when the named material is unknown (the problem is recorded)."""
+    name = t.string("design_medium")
+    if name is None:
+        return _ambient(build)
+    return resolve_material(build, t.path("design_medium"), name)
