@@ -126,9 +126,14 @@ class Split:
         """Field matrices (n, 3, 2) of the ``"r"`` or ``"t"`` children at ``index``."""
         d = self.r_dir if child == "r" else self.t_dir
         amp = self.r_amp if child == "r" else self.t_amp
+        n = len(self.s)
         if isinstance(index, slice) and index == slice(None):
-            s, d = self.s, d
-            return rebuild(s, _cross(d, s), self.a_s, self.a_p, amp[0], amp[1])
+            index = None
+        elif (isinstance(index, np.ndarray) and index.dtype.kind in "iu" and len(index) == n
+              and n and index[0] == 0 and (np.diff(index) == 1).all()):
+            index = None  # every ray, in order: no gathers
+        if index is None:
+            return rebuild(self.s, _cross(d, self.s), self.a_s, self.a_p, amp[0], amp[1])
         s = self.s[index]
         return rebuild(s, _cross(d[index], s), self.a_s[index], self.a_p[index],
                        amp[0][index], amp[1][index])
@@ -332,7 +337,7 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
                                  from_inside=bool(from_in)))
     beyond_gap = np.zeros(n, dtype=bool)
     if any_across:
-        for f in np.unique(face[across]):
+        for f in np.nonzero(np.bincount(face[across]))[0]:
             sel = across & (face == f)
             g = int(gap[np.nonzero(sel)[0][0]])
             spec = cs.gaps[g]
