@@ -50,7 +50,8 @@ from __future__ import annotations
 import numpy as np
 
 from tracer.errors import TracerError
-from tracer.tolerances import AXIS_PARALLEL_SIN, NORMAL_INCIDENCE_SIN
+from tracer.frames import axis_frame
+from tracer.tolerances import NORMAL_INCIDENCE_SIN
 
 __all__ = [
     "DetectorError",
@@ -89,23 +90,11 @@ def plane_frame(det):
     DetectorError
         When the normal is zero or ``x_axis`` is parallel to it.
     """
-    n = np.asarray(det.normal, dtype=float).reshape(3)
-    nn = np.linalg.norm(n)
-    if not np.isfinite(nn) or nn == 0:
-        raise _err(det, f"normal must be a non-zero 3-vector, got {np.asarray(det.normal).tolist()}")
-    n = n / nn
-    x = np.asarray(det.x_axis, dtype=float).reshape(3)
-    x0 = np.linalg.norm(x)
-    x = x - np.dot(x, n) * n
-    nx = np.linalg.norm(x)
-    if not np.isfinite(nx) or nx <= AXIS_PARALLEL_SIN * max(x0, 1e-300):
-        raise _err(
-            det,
-            f"x_axis {np.asarray(det.x_axis).tolist()} is parallel to the normal "
-            f"{np.asarray(det.normal).tolist()}; expected a direction in the detector plane",
-        )
-    x = x / nx
-    return n, x, np.cross(n, x)
+    return axis_frame(
+        det.normal, det.x_axis, error=lambda message: _err(det, message), axis_name="normal",
+        axis_shown=np.asarray(det.normal).tolist(), parallel_to="the normal",
+        x_expected="a direction in the detector plane",
+    )
 
 
 def _check_plane(det):
@@ -171,6 +160,13 @@ def pixel_edges(det):
     return np.linspace(-0.5 * w, 0.5 * w, nx + 1), np.linspace(-0.5 * h, 0.5 * h, ny + 1)
 
 
+def _frame_and_unit_directions(det, directions):
+    """``plane_frame(det)`` and the directions as unit ``(N, 3)`` rows."""
+    frame = plane_frame(det)
+    d = np.atleast_2d(np.asarray(directions, dtype=float))
+    return (*frame, d / np.linalg.norm(d, axis=1, keepdims=True))
+
+
 def far_field_angles(det, directions):
     """Azimuth and polar angle of directions about a far-field detector's axes.
 
@@ -184,9 +180,7 @@ def far_field_angles(det, directions):
     azimuth : (N,) float [rad], in [-pi, pi]
     polar : (N,) float [rad], in [0, pi]
     """
-    n, x, y = plane_frame(det)
-    d = np.atleast_2d(np.asarray(directions, dtype=float))
-    d = d / np.linalg.norm(d, axis=1, keepdims=True)
+    n, x, y, d = _frame_and_unit_directions(det, directions)
     polar = np.arccos(np.clip(d @ n, -1.0, 1.0))
     azimuth = np.arctan2(d @ y, d @ x)
     return azimuth, polar
@@ -236,9 +230,7 @@ def far_field_frame(det, directions):
     -------
     e_theta, e_phi : (N, 3) float [1]
     """
-    n, x, y = plane_frame(det)
-    d = np.atleast_2d(np.asarray(directions, dtype=float))
-    d = d / np.linalg.norm(d, axis=1, keepdims=True)
+    n, x, y, d = _frame_and_unit_directions(det, directions)
     phi_vec = np.cross(n, d)
     norm = np.linalg.norm(phi_vec, axis=1)
     pole = norm < NORMAL_INCIDENCE_SIN

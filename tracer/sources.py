@@ -73,7 +73,8 @@ import numpy as np
 
 from tracer import polarization as pol
 from tracer.errors import TracerError
-from tracer.tolerances import AXIS_PARALLEL_SIN, NORMAL_INCIDENCE_SIN
+from tracer.frames import axis_frame
+from tracer.tolerances import NORMAL_INCIDENCE_SIN
 
 __all__ = [
     "SourceError",
@@ -186,23 +187,11 @@ def source_frame(source):
     SourceError
         When ``direction`` is zero or ``x_axis`` is (nearly) parallel to it.
     """
-    d = np.asarray(source.direction, dtype=float).reshape(3)
-    nd = np.linalg.norm(d)
-    if not np.isfinite(nd) or nd == 0:
-        raise _err(source, f"direction must be a non-zero 3-vector, got {d.tolist()}")
-    d = d / nd
-    x = np.asarray(source.x_axis, dtype=float).reshape(3)
-    nx0 = np.linalg.norm(x)
-    x = x - np.dot(x, d) * d
-    nx = np.linalg.norm(x)
-    if not np.isfinite(nx) or nx <= AXIS_PARALLEL_SIN * max(nx0, 1e-300):
-        raise _err(
-            source,
-            f"x_axis {np.asarray(source.x_axis).tolist()} is parallel to direction "
-            f"{np.asarray(source.direction).tolist()}; expected a vector across the beam",
-        )
-    x = x / nx
-    return d, x, np.cross(d, x)
+    return axis_frame(
+        source.direction, source.x_axis, error=lambda message: _err(source, message),
+        axis_name="direction", x_expected="a vector across the beam",
+        axis_shown=np.asarray(source.direction, dtype=float).reshape(3).tolist(),
+    )
 
 
 def _line_weights(source):
