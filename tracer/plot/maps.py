@@ -185,16 +185,8 @@ def irradiance_map(result, detector: str | None = None, *, log: bool = False, ax
     fig, ax = _style.new_axes(ax, figsize=figsize)
     ext, sym, scale = _extent(data)
     img = data["irradiance"]
-    peak = float(img.max())
     with _style.style():
-        from matplotlib.colors import LogNorm, Normalize
-
-        if log and peak > 0:
-            norm = LogNorm(vmin=peak * floor, vmax=peak)
-            shown = np.where(img > 0, img, np.nan)
-        else:
-            norm = Normalize(vmin=0.0, vmax=peak if peak > 0 else 1.0)
-            shown = img
+        norm, shown = _power_norm(img, log=log, floor=floor)
         cmap = _cmap(IRRADIANCE_CMAP, bad="black")
         im = ax.imshow(shown, origin="lower", extent=ext, cmap=cmap, norm=norm,
                        interpolation="nearest", aspect="equal")
@@ -204,11 +196,30 @@ def irradiance_map(result, detector: str | None = None, *, log: bool = False, ax
             c = data["centroid"] / scale
             ax.plot(c[0], c[1], marker="+", color="#5fd3ff", ms=8, mew=1.0)
         if colorbar:
-            cb = fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03)
-            cb.set_label("irradiance [W/m²]" + (" (log)" if log else ""))
-            cb.outline.set_linewidth(0.5)
+            _colorbar(fig, im, ax, "irradiance [W/m²]" + (" (log)" if log else ""), pad=0.03)
         _set_title(ax, title, data, "irradiance")
     return fig
+
+
+def _power_norm(values, *, log, floor):
+    """Colour normalisation of a non-negative map and the values to show.
+
+    Log: from ``floor`` times the peak to the peak, zeros shown as "bad" (NaN); otherwise
+    linear from 0 to the peak (to 1 for an empty map).
+    """
+    from matplotlib.colors import LogNorm, Normalize
+
+    peak = float(values.max())
+    if log and peak > 0:
+        return LogNorm(vmin=peak * floor, vmax=peak), np.where(values > 0, values, np.nan)
+    return Normalize(vmin=0.0, vmax=peak if peak > 0 else 1.0), values
+
+
+def _colorbar(fig, mappable, ax, label, *, fraction=0.046, pad):
+    cb = fig.colorbar(mappable, ax=ax, fraction=fraction, pad=pad)
+    cb.set_label(label)
+    cb.outline.set_linewidth(0.5)
+    return cb
 
 
 def _cmap(name, bad):
@@ -356,9 +367,7 @@ def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction:
             ax.set_title(f"S{k}/S0", loc="left")
         axes[0].set_ylabel(f"v [{sym}]" if not line else "normalised Stokes")
         if im is not None:
-            cb = fig.colorbar(im, ax=list(axes), fraction=0.025, pad=0.02)
-            cb.set_label("normalised Stokes parameter")
-            cb.outline.set_linewidth(0.5)
+            _colorbar(fig, im, list(axes), "normalised Stokes parameter", fraction=0.025, pad=0.02)
         if title:
             from tracer.units import format_power
 
@@ -423,16 +432,8 @@ def far_field_map(result, name: str | None = None, *, log: bool = True, ax=None,
     data = far_field_data(result, name)
     fig, ax = _style.new_axes(ax, figsize=figsize, projection="polar")
     inten = data["intensity"]
-    peak = float(inten.max())
     with _style.style():
-        from matplotlib.colors import LogNorm, Normalize
-
-        if log and peak > 0:
-            norm = LogNorm(vmin=peak * floor, vmax=peak)
-            shown = np.where(inten > 0, inten, np.nan)
-        else:
-            norm = Normalize(vmin=0, vmax=peak if peak > 0 else 1.0)
-            shown = inten
+        norm, shown = _power_norm(inten, log=log, floor=floor)
         cmap = _cmap(IRRADIANCE_CMAP, bad="black")
         mesh = ax.pcolormesh(data["azimuth_edges"], np.degrees(data["polar_edges"]), shown.T,
                              cmap=cmap, norm=norm, shading="flat")
@@ -443,9 +444,7 @@ def far_field_map(result, name: str | None = None, *, log: bool = True, ax=None,
         for lab in ax.get_yticklabels():
             lab.set_color("white")
         ax.grid(color="#ffffff", alpha=0.25, lw=0.5)
-        cb = fig.colorbar(mesh, ax=ax, fraction=0.046, pad=0.1)
-        cb.set_label("radiant intensity [W/sr]" + (" (log)" if log else ""))
-        cb.outline.set_linewidth(0.5)
+        _colorbar(fig, mesh, ax, "radiant intensity [W/sr]" + (" (log)" if log else ""), pad=0.1)
         if title:
             from tracer.units import format_power
 
