@@ -26,21 +26,6 @@ from tracer.materials.models import (
     parse_glass_code,
 )
 
-__all__ = [
-    "get",
-    "names",
-    "aliases",
-    "describe",
-    "IndexModel",
-    "ConstantIndex",
-    "Cauchy",
-    "Sellmeier",
-    "Tabulated",
-    "CiddorAir",
-    "RadioAir",
-    "glass_from_code",
-    "parse_glass_code",
-    "FRAUNHOFER_D",
-    "FRAUNHOFER_F",
-    "FRAUNHOFER_C",
-]
+from tracer.materials import models as _models
+
+__all__ = ["get", "names", "aliases", "describe", *_models.__all__]

@@ -104,30 +104,8 @@ from tracer.polarization.states import (
     validate_stokes,
 )
 
-__all__ = [
-    "PolarizationError",
-    "stokes_to_coherency",
-    "coherency_to_stokes",
-    "linear",
-    "circular",
-    "elliptical",
-    "unpolarised",
-    "partial",
-    "validate_stokes",
-    "degree_of_polarization",
-    "initial_field_matrix",
-    "transverse_frame",
-    "sp_basis",
-    "apply_interface",
-    "ray_power",
-    "output_coherency",
-    "detector_stokes",
-    "detector_jones",
-    "detector_mueller",
-    "jones_in_frame",
-    "mueller_from_jones",
-    "path_mueller",
-    "diattenuation",
-    "retardance",
-    "polar_decomposition",
-]
+from tracer.polarization import fields as _fields
+from tracer.polarization import jones as _jones
+from tracer.polarization import states as _states
+
+__all__ = [*_states.__all__, *_fields.__all__, *_jones.__all__]
