@@ -133,11 +133,17 @@ def halfspace_intersect(
     o, dvec, ins = _prepare(origins, directions, inside)
     normals = np.asarray(normals, dtype=float)
     offsets = np.asarray(offsets, dtype=float)
+    return _in_blocks(o, dvec, ins, _CHUNK,
+                      lambda ob, db, ib: _halfspace_block(normals, offsets, ob, db, ib, t_min))
+
+
+def _in_blocks(o, d, ins, step, block):
+    """``(t, face)`` of all rays from ``block(o, d, ins)`` run on ``step`` rays at a time."""
     t_out = np.full(len(o), np.inf)
     f_out = np.full(len(o), -1, dtype=np.int64)
-    for s in range(0, len(o), _CHUNK):
-        sl = slice(s, s + _CHUNK)
-        t_out[sl], f_out[sl] = _halfspace_block(normals, offsets, o[sl], dvec[sl], ins[sl], t_min)
+    for s in range(0, len(o), step):
+        sl = slice(s, s + step)
+        t_out[sl], f_out[sl] = block(o[sl], d[sl], ins[sl])
     return t_out, f_out
 
 
@@ -155,13 +161,20 @@ def _halfspace_block(normals, offsets, o, d, ins, t_min):
     return t_res, f_res
 
 
+def _plane_crossings(normals, offsets, o, d):
+    """``den = d . n`` and ``num = offset - o . n`` (> 0 inside the half-space), ``(C, F)``,
+    and the ray parameter ``t = num / den`` of every ray on every face plane."""
+    den = d @ normals.T
+    num = offsets - o @ normals.T
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = num / den
+    return den, num, t
+
+
 def _halfspace_entry(normals, offsets, o, d, t_min):
     # entry: the last entering plane (den < 0), before the first leaving one (den > 0, any t);
     # a ray parallel to a plane and outside it (den == 0, num < 0) misses
-    den = d @ normals.T  # (C, F)
-    num = offsets - o @ normals.T  # > 0 inside the half-space
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = num / den
+    den, num, t = _plane_crossings(normals, offsets, o, d)
     t_in = np.where(den < 0, t, -np.inf)
     f_in = np.argmax(t_in, axis=1)
     te = np.take_along_axis(t_in, f_in[:, None], axis=1)[:, 0]
@@ -174,10 +187,7 @@ def _halfspace_entry(normals, offsets, o, d, t_min):
 def _halfspace_exit(normals, offsets, o, d, t_min):
     # exit: the first leaving plane ahead; a plane already behind the ray (round-off after
     # a hit near an edge) is skipped
-    den = d @ normals.T
-    num = offsets - o @ normals.T
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = num / den
+    den, _, t = _plane_crossings(normals, offsets, o, d)
     t_lv = np.where((den > 0) & (t > t_min), t, np.inf)
     f_lv = np.argmin(t_lv, axis=1)
     tx = np.take_along_axis(t_lv, f_lv[:, None], axis=1)[:, 0]
@@ -218,13 +228,9 @@ def triangle_intersect(
     e2 = tri[:, 2] - v0
     normal = np.cross(e1, e2)
     tface = np.asarray(triangle_face, dtype=np.int64)
-    t_out = np.full(len(o), np.inf)
-    f_out = np.full(len(o), -1, dtype=np.int64)
     step = max(1, _TRI_BLOCK // max(1, len(tri)))
-    for s in range(0, len(o), step):
-        sl = slice(s, s + step)
-        t_out[sl], f_out[sl] = _triangle_block(v0, e1, e2, normal, tface, o[sl], dvec[sl], ins[sl], t_min)
-    return t_out, f_out
+    return _in_blocks(o, dvec, ins, step,
+                      lambda ob, db, ib: _triangle_block(v0, e1, e2, normal, tface, ob, db, ib, t_min))
 
 
 def _triangle_block(v0, e1, e2, normal, tface, o, d, ins, t_min):
