@@ -6,10 +6,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .problems import Problems
+from .problems import Problems, did_you_mean
 from .quantities import SceneUnits
 
-__all__ = ["Build", "split_face_ref"]
+__all__ = ["Build", "split_face_ref", "resolve_face"]
 
 
 @dataclass
@@ -65,3 +65,28 @@ def split_face_ref(text: str) -> tuple[str, str] | None:
     if not solid or not face:
         return None
     return solid, face
+
+
+def resolve_face(t, key: str, ref, build: Build):
+    """(solid name, face name, face index) of a ``"solid.face"`` string, or ``None``.
+
+    Problems (malformed reference, unknown solid or face) are reported on table ``t``
+    (a :class:`tracer.scene.reader.Table`) at ``key``; a solid that was declared but not
+    built has its own problems already and gives ``None`` silently.
+    """
+    parts = split_face_ref(ref)
+    if parts is None:
+        t.error(key, f'expected "solid.face", got {ref!r}')
+        return None
+    solid, face = parts
+    if solid not in build.solid_keys:
+        t.error(key, f'unknown solid "{solid}"' + did_you_mean(solid, build.solid_keys))
+        return None
+    spec = build.solids.get(solid)
+    if spec is None:  # the solid has its own problems, already reported
+        return None
+    names = list(spec.geometry.face_names)
+    if face not in names:
+        t.error(key, f'solid "{solid}" has no face "{face}"' + did_you_mean(face, names))
+        return None
+    return solid, face, names.index(face)

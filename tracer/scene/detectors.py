@@ -13,9 +13,8 @@ from __future__ import annotations
 import numpy as np
 
 from .. import tolerances
-from .context import Build, split_face_ref
+from .context import Build, resolve_face
 from .model import DetectorSpec
-from .problems import did_you_mean
 from .reader import Table
 from .sources import check_in_plane, frame_axis
 
@@ -56,26 +55,6 @@ def _pixels(t: Table, default):
         t.error("pixels", f"expected two integers [nx, ny] between 1 and 100000, got {value!r}")
         return None
     return (int(value[0]), int(value[1]))
-
-
-def resolve_face(t: Table, key: str, ref, build: Build):
-    """(solid name, face name, face index) of a ``"solid.face"`` string, or ``None``."""
-    parts = split_face_ref(ref) if isinstance(ref, str) else None
-    if parts is None:
-        t.error(key, f'expected "solid.face", got {ref!r}')
-        return None
-    solid, face = parts
-    if solid not in build.solid_keys:
-        t.error(key, f'unknown solid "{solid}"' + did_you_mean(solid, build.solid_keys))
-        return None
-    spec = build.solids.get(solid)
-    if spec is None:  # the solid has its own problems, already reported
-        return None
-    names = list(spec.geometry.face_names)
-    if face not in names:
-        t.error(key, f'solid "{solid}" has no face "{face}"' + did_you_mean(face, names))
-        return None
-    return solid, face, names.index(face)
 
 
 def read_detector(name: str, t: Table, build: Build) -> DetectorSpec | None:

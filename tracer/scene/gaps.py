@@ -16,10 +16,9 @@ import math
 import numpy as np
 
 from .. import tolerances, units
-from .context import Build, split_face_ref
+from .context import Build, resolve_face
 from .media import resolve_material
 from .model import GapSpec
-from .problems import did_you_mean
 from .reader import Table
 from .shapes import face_axes, face_centroid_normal
 
@@ -62,25 +61,6 @@ def measure_gap(solid_a, face_a: int, solid_b, face_b: int) -> GapGeometry:
     denom = float(nb @ na)
     thickness = (db - float(nb @ point)) / denom if abs(denom) > 1e-12 else math.inf
     return GapGeometry(float(thickness), wedge, overlap, point)
-
-
-def _face(build: Build, t: Table, key: str, ref):
-    parts = split_face_ref(ref)
-    if parts is None:
-        t.error(key, f'expected "solid.face", got {ref!r}')
-        return None
-    solid, face = parts
-    if solid not in build.solid_keys:
-        t.error(key, f'unknown solid "{solid}"' + did_you_mean(solid, build.solid_keys))
-        return None
-    spec = build.solids.get(solid)
-    if spec is None:
-        return None
-    names = list(spec.geometry.face_names)
-    if face not in names:
-        t.error(key, f'solid "{solid}" has no face "{face}"' + did_you_mean(face, names))
-        return None
-    return solid, face, names.index(face)
 
 
 def _check_facing(t: Table | None, build: Build, key: str, g: GapGeometry, *, max_angle: float,
@@ -156,8 +136,8 @@ def read_gaps(tables: dict[str, Table], build: Build, *, mated, finding) -> dict
         if len(faces) != 2:
             t.error("faces", f'expected two faces ["solid.face", "solid.face"], got {len(faces)}')
             continue
-        fa = _face(build, t, "faces", faces[0])
-        fb = _face(build, t, "faces", faces[1])
+        fa = resolve_face(t, "faces", faces[0], build)
+        fb = resolve_face(t, "faces", faces[1], build)
         if fa is None or fb is None or medium is None or coherence is None:
             continue
         if fa[0] == fb[0]:
