@@ -147,51 +147,86 @@ class Split:
         return self.field("t")
 
 
-class _Coef:
-    """Per-ray coefficients filled group by group (``index`` None: every ray at once)."""
+#: Groups of at least this many rays try to solve each distinct angle once.
+_SHARED_MIN = 64
 
-    _NAMES = ("rs", "rp", "ts", "tp", "Rs", "Rp", "Ts", "Tp")
+
+def _shared_angles(cos, *same):
+    """``(unique cosines, inverse)`` when rays share angles, else ``None``.
+
+    Coefficients are elementwise functions of (indices, wavelength, angle): where the
+    arrays in ``same`` are constant over the group (one material pair, one wavelength)
+    and at most half of the cosines are distinct -- a collimated beam on flat faces --
+    solving each distinct angle once and expanding gives the same numbers.
+    """
+    m = len(cos)
+    if m < _SHARED_MIN:
+        return None
+    for a in same:
+        if not (a == a[0]).all():
+            return None
+    u, inv = np.unique(cos, return_inverse=True)
+    if 2 * len(u) > m:
+        return None
+    return u, inv.reshape(-1)
+
+
+class _Coef:
+    """Per-ray coefficients filled group by group (``index`` None: every ray at once).
+
+    ``rs_n``, ``rp_n``, ``ts_n``, ``tp_n`` are the power-normalised amplitudes
+    (``|t~|^2 = T``, ``|r~|^2 = R``) the fields are built with.
+    """
+
+    _NAMES = ("rs", "rp", "Rs", "Rp", "Ts", "Tp", "rs_n", "rp_n", "ts_n", "tp_n")
 
     def __init__(self, n):
         self.n = n
-        self.whole = False
 
     def _alloc(self):
         n = self.n
         for name in self._NAMES:
-            setattr(self, name, np.zeros(n, complex if name.islower() else float))
+            setattr(self, name, np.zeros(n, float if name[0] in "RT" else complex))
 
-    def fill(self, index, c):
-        # power-normalised transmitted amplitudes (|t~|^2 = T)
-        ts = c.ts * fresnel.amplitude_factor(T=c.Ts, t=c.ts)
-        tp = c.tp * fresnel.amplitude_factor(T=c.Tp, t=c.tp)
+    @staticmethod
+    def _values(c):
+        return dict(
+            rs=c.rs, rp=c.rp, Rs=c.Rs, Rp=c.Rp, Ts=c.Ts, Tp=c.Tp,
+            rs_n=c.rs * fresnel.amplitude_factor(T=c.Rs, t=c.rs),
+            rp_n=c.rp * fresnel.amplitude_factor(T=c.Rp, t=c.rp),
+            ts_n=c.ts * fresnel.amplitude_factor(T=c.Ts, t=c.ts),
+            tp_n=c.tp * fresnel.amplitude_factor(T=c.Tp, t=c.tp),
+        )
+
+    def fill(self, index, c, inverse=None):
+        """Set the rays at ``index`` from coefficients ``c`` (expanded by ``inverse``)."""
+        vals = self._values(c)
+        if inverse is not None:
+            vals = {k: v[inverse] for k, v in vals.items()}
         if index is None:
-            self.whole = True
-            self.rs, self.rp, self.Rs, self.Rp = c.rs, c.rp, c.Rs, c.Rp
-            self.Ts, self.Tp, self.ts, self.tp = c.Ts, c.Tp, ts, tp
+            for k, v in vals.items():
+                setattr(self, k, v)
             return
         if not hasattr(self, "rs"):
             self._alloc()
-        self.rs[index] = c.rs
-        self.rp[index] = c.rp
-        self.Rs[index] = c.Rs
-        self.Rp[index] = c.Rp
-        self.Ts[index] = c.Ts
-        self.Tp[index] = c.Tp
-        self.ts[index] = ts
-        self.tp[index] = tp
+        for k, v in vals.items():
+            getattr(self, k)[index] = v
 
     def mirror(self, index):
+        m = self.n if index is None else len(index)
+        one = np.ones(m)
+        rs, rp = -one.astype(complex), one.astype(complex)
+        vals = dict(rs=rs, rp=rp, Rs=one, Rp=one.copy(), Ts=np.zeros(m), Tp=np.zeros(m),
+                    rs_n=rs * _unit_amp(one, rs), rp_n=rp * _unit_amp(one, rp),
+                    ts_n=np.zeros(m, complex), tp_n=np.zeros(m, complex))
         if index is None:
-            one, zero = np.ones(self.n), np.zeros(self.n)
-            self.rs, self.rp = -one.astype(complex), one.astype(complex)
-            self.Rs, self.Rp, self.Ts, self.Tp = one, one.copy(), zero, zero.copy()
-            self.ts, self.tp = zero.astype(complex), zero.astype(complex)
+            for k, v in vals.items():
+                setattr(self, k, v)
             return
         if not hasattr(self, "rs"):
             self._alloc()
-        self.rs[index], self.rp[index] = -1.0, 1.0
-        self.Rs[index], self.Rp[index] = 1.0, 1.0
+        for k, v in vals.items():
+            getattr(self, k)[index] = v
 
     def finish(self):
         if not hasattr(self, "rs"):
@@ -310,11 +345,15 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         mirror &= ~across
         coated &= ~across
     if plain.any():
-        if plain.all():
-            co.fill(None, fresnel.coefficients(n1=n1, n2=n2, cos_angle=cos1))
+        i = None if plain.all() else np.nonzero(plain)[0]
+        n1p, n2p, c1p = (n1, n2, cos1) if i is None else (n1[i], n2[i], cos1[i])
+        shared = _shared_angles(c1p, n1p, n2p)
+        if shared is None:
+            co.fill(i, fresnel.coefficients(n1=n1p, n2=n2p, cos_angle=c1p))
         else:
-            i = np.nonzero(plain)[0]
-            co.fill(i, fresnel.coefficients(n1=n1[i], n2=n2[i], cos_angle=cos1[i]))
+            u = len(shared[0])
+            co.fill(i, fresnel.coefficients(n1=n1p[:u], n2=n2p[:u], cos_angle=shared[0]),
+                    shared[1])
     if mirror.any():
         co.mirror(None if mirror.all() else np.nonzero(mirror)[0])
     if coated.any():
@@ -331,10 +370,17 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
             idx = None if whole else sel
             n1s, n2s = (n1, n2) if whole else (n1[sel], n2[sel])
             n_in_solid, n_out = (n1s, n2s) if from_in else (n2s, n1s)
+            wls = wavelength if whole else wavelength[sel]
+            c1s = cos1 if whole else cos1[sel]
+            shared = _shared_angles(c1s, n_in_solid, n_out, wls)
+            inverse = None
+            if shared is not None:
+                u = len(shared[0])
+                n_in_solid, n_out, wls, c1s = n_in_solid[:u], n_out[:u], wls[:u], shared[0]
+                inverse = shared[1]
             co.fill(idx, _coated(cs.group_treatment[gi], n_inside=n_in_solid, n_outside=n_out,
-                                 wavelength=wavelength if whole else wavelength[sel],
-                                 cos_angle=cos1 if whole else cos1[sel],
-                                 from_inside=bool(from_in)))
+                                 wavelength=wls, cos_angle=c1s, from_inside=bool(from_in)),
+                    inverse)
     beyond_gap = np.zeros(n, dtype=bool)
     if any_across:
         for f in np.nonzero(np.bincount(face[across]))[0]:
@@ -373,8 +419,7 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         r_dir=r_dir, r_power=r_power, r_kind=r_kind,
         t_exists=t_exists, t_dir=t_dir, t_power=t_power, t_kind=t_kind,
         t_origin=t_origin, t_medium=t_medium, t_face=t_face, absorbed=absorbed,
-        s=s, a_s=a_s, a_p=a_p, r_amp=(co.rs * _unit_amp(co.Rs, co.rs), co.rp * _unit_amp(co.Rp, co.rp)),
-        t_amp=(co.ts, co.tp),
+        s=s, a_s=a_s, a_p=a_p, r_amp=(co.rs_n, co.rp_n), t_amp=(co.ts_n, co.tp_n),
     )
 
 
