@@ -63,6 +63,32 @@ class RunOptions:
     seeds: str = "common"
 
 
+def run_options(settings: dict | None = None, groups=None, states: dict | None = None, *,
+                seeds: str = "common") -> RunOptions:
+    """:class:`RunOptions` from the optional arguments of a sweep or a tolerance run
+    (``None``: the default groups and states).
+
+    >>> run_options({"rays": 10}, groups=["power"]).groups
+    ('power',)
+    """
+    return RunOptions(settings=dict(settings or {}), seeds=seeds,
+                      **({} if groups is None else {"groups": tuple(groups)}),
+                      **({} if states is None else {"states": dict(states)}))
+
+
+def write_result_files(result, out_dir, stem: str, figures=None) -> list[Path]:
+    """``STEM.csv`` and ``STEM.json`` (``result.to_csv``, ``result.to_json``) in ``out_dir``
+    (made when missing), then the files of ``figures(result, out_dir)`` when given."""
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    files = [out / f"{stem}.csv", out / f"{stem}.json"]
+    result.to_csv(files[0])
+    result.to_json(files[1])
+    if figures is not None:
+        files += figures(result, out)
+    return files
+
+
 def document_of(scene_or_path) -> tuple[dict, str | None, str]:
     """``(document, path, base_dir)`` from a scene file path, a loaded Scene or a dict."""
     from ..scene.toml_io import parse_text
@@ -165,4 +191,5 @@ def check_errors(outcomes: list[dict], *, on_error: str, kind: str = "point") ->
                      [o["error"] for o in failed])
 
 
-__all__ += ["describe_point", "check_paths", "format_path", "KeyPathError"]
+__all__ += ["describe_point", "check_paths", "format_path", "KeyPathError", "run_options",
+            "write_result_files"]

@@ -35,8 +35,9 @@ import numpy as np
 
 from ..errors import TracerError
 from .axes import Axis, grid
-from .parallel import Backend, get_backend
-from .runner import RunOptions, check_errors, check_paths, document_of, make_task, run_task
+from .parallel import Backend, parallel_map
+from .runner import (check_errors, check_paths, document_of, make_task, run_options, run_task,
+                     write_result_files)
 
 __all__ = ["sweep", "SweepResult"]
 
@@ -146,16 +147,11 @@ class SweepResult:
 
     def write(self, out_dir: str | os.PathLike, *, figures: bool = True) -> list[Path]:
         """Write ``sweep.csv``, ``sweep.json`` and (when matplotlib imports) figures."""
-        out = Path(out_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        files = [out / "sweep.csv", out / "sweep.json"]
-        self.to_csv(files[0])
-        self.to_json(files[1])
-        if figures:
-            from . import plots
+        if not figures:
+            return write_result_files(self, out_dir, "sweep")
+        from . import plots
 
-            files += plots.sweep_figures(self, out)
-        return files
+        return write_result_files(self, out_dir, "sweep", plots.sweep_figures)
 
 
 def _finite(row: dict) -> dict:
@@ -214,18 +210,10 @@ def sweep(scene, axes: Sequence[Axis], *, settings: dict | None = None,
     doc, path, base = document_of(scene)
     check_paths(doc, [a.path for a in axes])
     points = grid(axes)
-    opts = RunOptions(settings=dict(settings or {}), seeds=seeds,
-                      **({} if groups is None else {"groups": tuple(groups)}),
-                      **({} if states is None else {"states": dict(states)}))
+    opts = run_options(settings, groups, states, seeds=seeds)
     tasks = [make_task(doc, path, base, i, p, opts) for i, p in enumerate(points)]
-    own = backend is None
-    if own:
-        backend = get_backend(workers, scheduler)
-    try:
-        outcomes = backend.map(run_task, tasks, label="sweep", progress=progress)
-    finally:
-        if own:
-            backend.close()
+    outcomes = parallel_map(run_task, tasks, backend=backend, workers=workers, scheduler=scheduler,
+                            label="sweep", progress=progress)
     check_errors(outcomes, on_error=on_error, kind="point")
     return SweepResult(axes=axes, points=points, rows=[o["row"] for o in outcomes],
                        details=[o["details"] for o in outcomes],

@@ -71,9 +71,9 @@ import numpy as np
 
 from ..errors import TracerError
 from .keypath import KeyPathError, add_quantity, get_value, parse, split_quantity, with_values
-from .parallel import Backend, get_backend
+from .parallel import Backend, parallel_map
 from .tolerance_result import ToleranceResult, spearman
-from .runner import RunOptions, check_errors, document_of, make_task, run_task
+from .runner import check_errors, document_of, make_task, run_options, run_task
 
 __all__ = ["Tolerance", "ToleranceError", "read_tolerances", "parse_tol_option", "tolerance_run",
            "ToleranceResult", "one_at_a_time", "spearman", "DISTRIBUTIONS"]
@@ -334,19 +334,11 @@ def tolerance_run(scene, tolerances: Sequence[Tolerance] | None = None, *, trial
     seed = int(loaded.seed if seed is None else seed)
     deltas = draw_deltas(tols, int(trials), seed)
     values = [_apply(doc, tols, deltas[i], length_unit) for i in range(int(trials))]
-    opts = RunOptions(settings=dict(settings or {}),
-                      **({} if groups is None else {"groups": tuple(groups)}),
-                      **({} if states is None else {"states": dict(states)}))
+    opts = run_options(settings, groups, states)
     tasks = [make_task(doc, path, base, 0, {}, opts, kind="nominal")]
     tasks += [make_task(doc, path, base, i, v, opts, kind="trial") for i, v in enumerate(values)]
-    own = backend is None
-    if own:
-        backend = get_backend(workers, scheduler)
-    try:
-        outcomes = backend.map(run_task, tasks, label="tolerance trials", progress=progress)
-    finally:
-        if own:
-            backend.close()
+    outcomes = parallel_map(run_task, tasks, backend=backend, workers=workers, scheduler=scheduler,
+                            label="tolerance trials", progress=progress)
     if not outcomes[0]["ok"]:
         raise ToleranceError(outcomes[0]["error"])
     check_errors(outcomes[1:], on_error=on_error, kind="trial")
@@ -374,7 +366,7 @@ def one_at_a_time(scene, tolerances: Sequence[Tolerance] | None = None, *, colum
     file_tols, doc = read_tolerances(doc)
     tols = [*file_tols, *(tolerances or [])]
     length_unit = str(doc.get("length_unit", "mm"))
-    opts = RunOptions(settings=dict(settings or {}))
+    opts = run_options(settings)
     tasks = []
     for k, t in enumerate(tols):
         for sgn in (-1.0, 1.0):
@@ -382,14 +374,8 @@ def one_at_a_time(scene, tolerances: Sequence[Tolerance] | None = None, *, colum
             d[k] = sgn * t.std
             tasks.append(make_task(doc, path, base, len(tasks), _apply(doc, tols, d, length_unit),
                                    opts, kind="one-at-a-time"))
-    own = backend is None
-    if own:
-        backend = get_backend(workers, scheduler)
-    try:
-        outcomes = backend.map(run_task, tasks, label="one at a time")
-    finally:
-        if own:
-            backend.close()
+    outcomes = parallel_map(run_task, tasks, backend=backend, workers=workers, scheduler=scheduler,
+                            label="one at a time")
     check_errors(outcomes, on_error="raise", kind="one-at-a-time point")
     out = {}
     for c in columns:

@@ -257,16 +257,13 @@ class ToleranceResult:
 
     def write(self, out_dir, *, figures: bool = True) -> list[Path]:
         """``tolerance.csv``, ``tolerance.json`` and (matplotlib) histograms."""
-        out = Path(out_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        files = [out / "tolerance.csv", out / "tolerance.json"]
-        self.to_csv(files[0])
-        self.to_json(files[1])
-        if figures:
-            from . import plots
+        from .runner import write_result_files
 
-            files += plots.tolerance_figures(self, out)
-        return files
+        if not figures:
+            return write_result_files(self, out_dir, "tolerance")
+        from . import plots
+
+        return write_result_files(self, out_dir, "tolerance", plots.tolerance_figures)
 
 
 def _fmt(x):
