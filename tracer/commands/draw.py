@@ -68,7 +68,9 @@ def run(args) -> int:
         except ImportError as exc:
             skipped.append(("glb", f"3D export not available ({exc})"))
         else:
-            files.append(export_glb(scene, result, out / f"{stem}.glb"))
+            from ..report.figures import drawing_result
+
+            files.append(export_glb(scene, drawing_result(result), out / f"{stem}.glb"))
     if not args.quiet:
         for f in files:
             print(f"wrote {f}")

@@ -79,6 +79,35 @@ def close(fig) -> None:
         pass
 
 
+#: Geometric rays per spectral line and source in a ray diagram: few enough that single rays
+#: (and the faint ghosts) stay visible instead of blending into a saturated band.
+DIAGRAM_RAYS = 11
+
+#: Ray segments recorded for a diagram's drawing run.
+DIAGRAM_SEGMENTS = 4000
+
+
+def drawing_result(result):
+    """The trace to draw rays from.
+
+    ``result`` itself when it recorded segments from at most ``DIAGRAM_RAYS`` geometric rays
+    per source and line; otherwise the same scene traced again with the same settings (mode,
+    threshold, event cap, seed) and ``DIAGRAM_RAYS`` rays per line, recording segments. The
+    power budget, ghost tables and maps always come from ``result``.
+    """
+    from ..engine import trace
+
+    opts = result.options
+    launched = int(sum(int(n) for n in result.launched))
+    lines = sum(max(int(sum(1 for w in s.spectrum.weights if w > 0)), 1)
+                for s in result.scene.sources.values())
+    if opts.segments and launched <= DIAGRAM_RAYS * max(lines, 1):
+        return result
+    return trace(result.scene, mode=opts.mode, power_threshold=opts.power_threshold,
+                 max_events=opts.max_events, seed=opts.seed, rays=DIAGRAM_RAYS,
+                 segments=DIAGRAM_SEGMENTS, progress=False)
+
+
 def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = None) -> list[Figure]:
     """Figures of a trace, of the requested ``kinds`` (see the module docstring).
 
@@ -110,6 +139,8 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
     def missing(kind):
         skipped.append((kind, "not available in this version of tracer.plot"))
 
+    drawn = drawing_result(result) if {"rays", "rays3d"} & set(kinds) else None
+
     for kind in kinds:
         if kind == "rays":
             fn = _find(plot, "draw_2d")
@@ -117,14 +148,14 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
                 missing(kind)
                 continue
             out.append(Figure("rays", "Section with the traced rays (opacity and width fall with "
-                                      "power, one decade a step)", fn(scene, result)))
+                                      "power, one decade a step)", fn(scene, drawn)))
         elif kind == "rays3d":
             fn = _find(plot, "draw_3d_views")
             if fn is None:
                 missing(kind)
                 continue
             out.append(Figure("rays3d", "Top, front, side and isometric views with the traced rays",
-                              fn(scene, result)))
+                              fn(scene, drawn)))
         elif kind == "budget":
             fn = _find(plot, "budget_figure", "draw_budget", "plot_budget")
             if fn is None:
