@@ -14,27 +14,31 @@ from pathlib import Path
 from ..errors import TracerError
 
 __all__ = ["add_scene", "add_trace_options", "add_output_options", "load_scene", "trace_scene",
-           "out_dir", "say", "plot_module", "write_text"]
+           "out_dir", "say", "plot_module", "write_text", "whole_number"]
+
+
+def whole_number(text: str, *, minimum: int, expected: str) -> int:
+    """A whole-number option value at least ``minimum``; ``expected`` describes it in
+    the message for a smaller one.
+
+    >>> whole_number("3", minimum=1, expected="a positive whole number")
+    3
+    """
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < minimum:
+        raise argparse.ArgumentTypeError(f"expected {expected}, got {text!r}")
+    return value
 
 
 def _positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {text!r}")
-    return value
+    return whole_number(text, minimum=1, expected="a positive whole number")
 
 
 def _seed(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"expected a non-negative whole number, got {text!r}")
-    return value
+    return whole_number(text, minimum=0, expected="a non-negative whole number")
 
 
 def _fraction(text: str) -> float:

@@ -77,15 +77,7 @@ def add_parallel_options(parser) -> None:
 
 
 def _workers(text: str) -> int:
-    import argparse
-
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if v < 0:
-        raise argparse.ArgumentTypeError(f"expected 0 or more workers, got {text!r}")
-    return v
+    return c.whole_number(text, minimum=0, expected="0 or more workers")
 
 
 def make_backend(args):
