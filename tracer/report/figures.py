@@ -50,6 +50,17 @@ def _plot():
 _SUBMODULES = ("diagram2d", "diagram3d", "maps", "budget", "figures")
 
 
+#: Plotting functions of each figure kind, first found wins (see :func:`_find`).
+_PLOT_FUNCTIONS = {
+    "rays": ("draw_2d",),
+    "rays3d": ("draw_3d_views",),
+    "budget": ("budget_figure", "draw_budget", "plot_budget"),
+    "irradiance": ("irradiance_map",),
+    "stokes": ("stokes_maps",),
+    "far_field": ("far_field_map",),
+}
+
+
 def _find(plot, *names):
     import importlib
 
@@ -142,25 +153,19 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
     drawn = drawing_result(result) if {"rays", "rays3d"} & set(kinds) else None
 
     for kind in kinds:
+        if kind == "far_field" and not fars:
+            continue
+        fn = _find(plot, *_PLOT_FUNCTIONS[kind])
+        if fn is None:
+            missing(kind)
+            continue
         if kind == "rays":
-            fn = _find(plot, "draw_2d")
-            if fn is None:
-                missing(kind)
-                continue
             out.append(Figure("rays", "Section with the traced rays (opacity and width fall with "
                                       "power, one decade a step)", fn(scene, drawn)))
         elif kind == "rays3d":
-            fn = _find(plot, "draw_3d_views")
-            if fn is None:
-                missing(kind)
-                continue
             out.append(Figure("rays3d", "Top, front, side and isometric views with the traced rays",
                               fn(scene, drawn)))
         elif kind == "budget":
-            fn = _find(plot, "budget_figure", "draw_budget", "plot_budget")
-            if fn is None:
-                missing(kind)
-                continue
             if analysis is None:
                 from ..analysis import power_budget
 
@@ -169,30 +174,16 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
                 budget = analysis.budget
             out.append(Figure("budget", "Power budget: where the source power goes", fn(budget)))
         elif kind == "irradiance":
-            fn = _find(plot, "irradiance_map")
-            if fn is None:
-                missing(kind)
-                continue
             for det in planes:
                 if result.detector_power(det) > 0:
                     out.append(Figure(f"irradiance-{det}", f"Irradiance on detector {det}",
                                       fn(result, det)))
         elif kind == "stokes":
-            fn = _find(plot, "stokes_maps")
-            if fn is None:
-                missing(kind)
-                continue
             for det in planes:
                 if result.detector_power(det) > 0:
                     out.append(Figure(f"stokes-{det}", f"Normalised Stokes parameters on detector {det}",
                                       fn(result, det)))
         elif kind == "far_field":
-            if not fars:
-                continue
-            fn = _find(plot, "far_field_map")
-            if fn is None:
-                missing(kind)
-                continue
             for name in fars:
                 out.append(Figure(f"far-field-{name}", f"Radiant intensity by direction ({name})",
                                   fn(result, name)))
