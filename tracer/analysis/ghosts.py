@@ -49,7 +49,10 @@ import numpy as np
 from .tables import csv_text, finite_or_none, fmt_fraction, fmt_length_mm, fmt_sci, format_table
 
 __all__ = ["GhostRow", "GhostTable", "ghost_table", "ghost_tables", "ghost_label",
-           "matches_sequence", "EVENT_CODES"]
+           "matches_sequence", "EVENT_CODES", "SPOT_HEADER"]
+
+#: Column headings of :meth:`GhostRow.spot_cells`.
+SPOT_HEADER = ("x [mm]", "y [mm]", "rms [mm]", "DoP")
 
 #: Event kind name -> code used in labels (same codes as the path tree's signatures).
 EVENT_CODES = {"transmit": "T", "reflect": "R", "TIR": "TIR", "tunnel": "FT", "absorb": "A",
@@ -111,6 +114,13 @@ class GhostRow:
             rms_radius_m=finite_or_none(self.rms_radius),
             degree_of_polarization=finite_or_none(self.dop), design=self.design,
         )
+
+    def spot_cells(self) -> list[str]:
+        """Centroid x, y and RMS radius [mm] and DoP as table cells (plane detectors),
+        under :data:`SPOT_HEADER`."""
+        cx, cy = self.centroid if self.centroid is not None else (None, None)
+        return [fmt_length_mm(cx), fmt_length_mm(cy), fmt_length_mm(self.rms_radius),
+                "-" if self.dop is None else f"{self.dop:.3f}"]
 
 
 @dataclass(frozen=True)
@@ -213,7 +223,7 @@ class GhostTable:
         plane = self.kind == "plane"
         header = ["rank", "power [W]", "of source", "to design", "refl"]
         if plane:
-            header += ["x [mm]", "y [mm]", "rms [mm]", "DoP"]
+            header += SPOT_HEADER
         header.append("path")
         body = []
         for r in rows:
@@ -221,9 +231,7 @@ class GhostTable:
                      fmt_fraction(r.fraction), fmt_sci(r.ratio) if not r.design else "1",
                      str(r.reflections)]
             if plane:
-                cx, cy = r.centroid if r.centroid is not None else (None, None)
-                cells += [fmt_length_mm(cx), fmt_length_mm(cy), fmt_length_mm(r.rms_radius),
-                          "-" if r.dop is None else f"{r.dop:.3f}"]
+                cells += r.spot_cells()
             cells.append(r.label)
             body.append(cells)
         text = head + "\n" + format_table(header, body, indent="  ")

@@ -11,7 +11,8 @@ import base64
 import html
 import math
 
-from ..analysis.tables import fmt_fraction, fmt_length_mm, fmt_sci
+from ..analysis.ghosts import SPOT_HEADER
+from ..analysis.tables import fmt_fraction, fmt_sci
 from .caution import CAUTION_HTML
 
 __all__ = ["render_html", "CSS"]
@@ -227,16 +228,14 @@ def _ghost_section(tables, limit: int) -> str:
         plane = t.kind == "plane"
         header = ["rank", "power [W]", "of source", "to design", "refl."]
         if plane:
-            header += ["x [mm]", "y [mm]", "rms [mm]", "DoP"]
+            header += SPOT_HEADER
         header.append("path")
         rows = []
         for r in t.rows[:limit]:
             row = [str(r.rank), fmt_sci(r.power_w), fmt_fraction(r.fraction),
                    "design" if r.design else fmt_sci(r.ratio), str(r.reflections)]
             if plane:
-                cx, cy = r.centroid if r.centroid is not None else (None, None)
-                row += [fmt_length_mm(cx), fmt_length_mm(cy), fmt_length_mm(r.rms_radius),
-                        "-" if r.dop is None else f"{r.dop:.3f}"]
+                row += r.spot_cells()
             row.append(_Raw(e(r.label), "path"))
             rows.append(row)
         numeric = tuple(range(len(header) - 1))
