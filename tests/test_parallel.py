@@ -6,54 +6,15 @@ import numpy as np
 import pytest
 
 import tracer
+from pair_scenes import ftir_pair_toml
 from tracer.scene import loads
 from tracer.sweep import (ParallelError, ProcessBackend, SerialBackend, get_backend, list_axis,
                           merge_summaries, parallel_map, sweep, task_seed, trace_split)
 from tracer.sweep.parallel import Progress, split_range
 
-SCENE = """
-format = 1
-title = "FTIR pair for the parallel tests"
-length_unit = "mm"
-seed = 5
-
-[spectrum]
-wavelengths = ["633 nm", "550 nm"]
-
-[materials.glass]
-model = "constant"
-n = 1.5
-
-[solids.lower]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-
-[solids.upper]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-[solids.upper.mate]
-to = "lower.hypotenuse"
-face = "hypotenuse"
-gap = "0.2 um"
-
-[sources.beam]
-kind = "collimated"
-position = [5, -5, 0]
-direction = [0, 1, 0]
-diameter = 2
-rays = 40
-sampling = "random"
-power = "1 mW"
-polarization = { kind = "linear", angle = "30 deg" }
-
-[detectors.through]
-position = [5, 25, 0]
-normal = [0, -1, 0]
-width = 20
-height = 20
-"""
+SCENE = ftir_pair_toml(title="FTIR pair for the parallel tests", seed=5, gap="0.2 um",
+                       wavelengths='"633 nm", "550 nm"', diameter=2, rays=40, sampling="random",
+                       angle="30 deg")
 
 
 @pytest.fixture(scope="module")

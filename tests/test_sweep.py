@@ -8,70 +8,24 @@ import numpy as np
 import pytest
 import tmm
 
+from pair_scenes import ftir_pair_toml
 from tracer.cli import main
 from tracer.sweep import PointError, list_axis, range_axis, sweep
 
 N_GLASS = 1.5
 WL = 633e-9
 
-PAIR = """
-format = 1
-title = "FTIR pair (test)"
-length_unit = "mm"
-ambient = "vac"
-seed = 1
 
-[spectrum]
-wavelengths = ["633 nm"]
-
-[materials.vac]
-model = "constant"
-n = 1.0
-
-[materials.glass]
-model = "constant"
-n = 1.5
-
-[coatings.ar]
-kind = "stack"
-layers = [{ material = "glass", thickness = "100 nm" }]
-
-[solids.lower]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-
-[solids.upper]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-[solids.upper.mate]
-to = "lower.hypotenuse"
-face = "hypotenuse"
-gap = "0.2 um"
-
-[sources.beam]
-kind = "collimated"
-position = [5, -5, 0]
-direction = [0, 1, 0]
-diameter = 1
-rays = 3
-power = "1 mW"
-polarization = { kind = "linear", angle = "ANGLE deg" }
-
-[detectors.through]
-position = [5, 25, 0]
-normal = [0, -1, 0]
-width = 20
-height = 20
-"""
+def pair_toml(angle):
+    return ftir_pair_toml(title="FTIR pair (test)", seed=1, gap="0.2 um", angle=f"{angle} deg",
+                          vacuum_ambient=True, coating=True)
 
 
 @pytest.fixture()
 def pair(tmp_path):
     def make(angle=0):
         p = tmp_path / f"pair{angle}.toml"
-        p.write_text(PAIR.replace("ANGLE", str(angle)))
+        p.write_text(pair_toml(angle))
         return str(p)
     return make
 

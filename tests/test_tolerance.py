@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 import tracer
+from pair_scenes import ftir_pair_toml
 from tracer.cli import main
 from tracer.scene import load, loads
 from tracer.sweep import (Tolerance, ToleranceError, parse_tol_option, read_tolerances, spearman,
@@ -18,48 +19,7 @@ from tracer.sweep.tolerance import draw_deltas
 ROOT = Path(__file__).resolve().parents[1]
 PENTA = ROOT / "scenes" / "penta_prism_laser.toml"
 
-PAIR = """
-format = 1
-title = "FTIR pair with tolerances (test)"
-length_unit = "mm"
-seed = 4
-
-[spectrum]
-wavelengths = ["633 nm"]
-
-[materials.glass]
-model = "constant"
-n = 1.5
-
-[solids.lower]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-
-[solids.upper]
-material = "glass"
-kind = "right_angle_prism"
-leg = 10
-[solids.upper.mate]
-to = "lower.hypotenuse"
-face = "hypotenuse"
-gap = "0.3 um"
-
-[sources.beam]
-kind = "collimated"
-position = [5, -5, 0]
-direction = [0, 1, 0]
-diameter = 1
-rays = 3
-power = "1 mW"
-polarization = { kind = "linear", angle = "90 deg" }
-
-[detectors.through]
-position = [5, 25, 0]
-normal = [0, -1, 0]
-width = 20
-height = 20
-
+PAIR = ftir_pair_toml(title="FTIR pair with tolerances (test)", seed=4, gap="0.3 um", extra="""
 [requirements.enough]
 kind = "min_power"
 detector = "through"
@@ -74,7 +34,7 @@ sigma = "0.03 um"
 index = "glass"
 dist = "uniform"
 half_width = 1e-5
-"""
+""")
 
 
 @pytest.fixture()
