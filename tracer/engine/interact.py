@@ -458,9 +458,13 @@ def _cross(a, b):
 def _project(v, field):
     """(N, 2) components ``v . M[:, :, k]`` of the field matrices along unit ``v``."""
     f = np.ascontiguousarray(field).view(float)  # (N, 3, 4): re, im of both columns
-    out = v[:, 0, None] * f[:, 0, :]
-    out += v[:, 1, None] * f[:, 1, :]
-    out += v[:, 2, None] * f[:, 2, :]
+    out = np.empty((len(f), 4))
+    v0, v1, v2 = v[:, 0], v[:, 1], v[:, 2]
+    for j in range(4):  # one long loop per component (no short broadcast inner loops)
+        o = out[:, j]
+        np.multiply(v0, f[:, 0, j], out=o)
+        o += v1 * f[:, 1, j]
+        o += v2 * f[:, 2, j]
     return out.view(complex)
 
 
@@ -479,8 +483,13 @@ def rebuild(s, p_out, a_s, a_p, amp_s, amp_p):
     """
     cs = (amp_s[:, None] * a_s).view(float)  # (N, 4)
     cp = (amp_p[:, None] * a_p).view(float)
-    out = s[:, :, None] * cs[:, None, :]
-    out += p_out[:, :, None] * cp[:, None, :]
+    out = np.empty((len(cs), 3, 4))
+    for i in range(3):  # one long loop per component (no short broadcast inner loops)
+        si, pi = s[:, i], p_out[:, i]
+        for j in range(4):
+            o = out[:, i, j]
+            np.multiply(si, cs[:, j], out=o)
+            o += pi * cp[:, j]
     return out.view(complex)
 
 
