@@ -58,7 +58,11 @@ def _dot(a, b):
 
 def reflect_direction(k, normal, cos1):
     """Mirror ``k`` about the plane of ``normal``; ``cos1 = k . normal`` [1]."""
-    return k - (2.0 * cos1)[:, None] * normal
+    c = 2.0 * cos1
+    out = np.empty_like(k)
+    for a in range(3):  # per component: long loops
+        np.subtract(k[:, a], c * normal[:, a], out=out[:, a])
+    return out
 
 
 def refract_direction(k, normal, cos1, ratio):
@@ -91,8 +95,13 @@ def refract_direction(k, normal, cos1, ratio):
     sin2 = ratio**2 * ((1.0 - cos1) * (1.0 + cos1))
     ok = sin2 <= 1.0
     c2 = np.sqrt(np.clip(1.0 - sin2, 0.0, None))
-    kt = ratio[:, None] * (k - cos1[:, None] * normal) + c2[:, None] * normal
-    kt /= np.linalg.norm(kt, axis=1, keepdims=True)
+    kt = np.empty_like(k)
+    for a in range(3):  # per component: long loops
+        na = normal[:, a]
+        np.add(ratio * (k[:, a] - cos1 * na), c2 * na, out=kt[:, a])
+    norm = np.sqrt(_dot(kt, kt))
+    for a in range(3):
+        kt[:, a] /= norm
     return kt, ok
 
 
@@ -332,7 +341,10 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     else:
         n2 = np.where(inside, n_amb, solid_med)
         t_medium = np.where(inside, -1, solid)
-    nhat = np.where(inside[:, None], nf, -nf)
+    sign = np.where(inside, 1.0, -1.0)
+    nhat = np.empty_like(nf)
+    for a in range(3):
+        np.multiply(nf[:, a], sign, out=nhat[:, a])
     cos1 = np.clip(_dot(k, nhat), 0.0, 1.0)
 
     code = cs.face_code[face]
@@ -442,8 +454,10 @@ def sp_basis(k, normal):
     if normal_inc.any():
         s[normal_inc] = pol.sp_basis(k[normal_inc], normal[normal_inc])[0]
         ns[normal_inc] = 1.0
-    s /= ns[:, None]
-    u = k / kn[:, None]
+    u = np.empty_like(k)
+    for a in range(3):
+        s[:, a] /= ns
+        np.divide(k[:, a], kn, out=u[:, a])
     return s, _cross(u, s)
 
 
