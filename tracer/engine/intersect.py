@@ -40,22 +40,25 @@ def _inverse(direction):
 def _slab(lo, hi, origin, inv):
     """Entry distance of rays into boxes (slab test), ``inf`` where a box is missed.
 
+    Box-major layout: one row per box, one column per ray, so that every operation
+    runs along the rays.
+
     Parameters
     ----------
-    lo, hi : tuple of three (1, K) or (m, K) float arrays [m]
+    lo, hi : tuple of three (K, 1) or (K, m) float arrays [m]
         Box corners by axis.
     origin, inv : (m, 3) float
         Ray origins [m] and inverse directions [1/1].
 
     Returns
     -------
-    (m, K) float [m]
+    (K, m) float [m]
         ``max(t_enter, 0)`` where the ray's half-line ``t >= 0`` meets the box.
     """
     tmin = tmax = None
     for a in range(3):
-        oa = origin[:, a, None]
-        ia = inv[:, a, None]
+        oa = origin[:, a]
+        ia = inv[:, a]
         t1 = lo[a] - oa
         t1 *= ia
         t2 = hi[a] - oa
@@ -93,9 +96,11 @@ def box_candidates(lo, hi, origin, direction):
     """
     lo = np.asarray(lo, dtype=float)
     hi = np.asarray(hi, dtype=float)
-    tn = _slab(tuple(lo[None, :, a] for a in range(3)), tuple(hi[None, :, a] for a in range(3)),
+    tn = _slab(tuple(lo[:, a, None] for a in range(3)), tuple(hi[:, a, None] for a in range(3)),
                np.asarray(origin, dtype=float), _inverse(np.asarray(direction, dtype=float)))
-    return np.nonzero(np.isfinite(tn))
+    box, ray = np.nonzero(np.isfinite(tn))
+    order = np.argsort(ray, kind="stable")
+    return ray[order], box[order]
 
 
 def _planes(cs, solid, origin, direction):
@@ -236,46 +241,50 @@ class _Entry:
         cs = self.cs
         rays = np.arange(len(self.o))
         if cs.group_members is None:
-            tn = _slab(tuple(a[None] for a in self.lo), tuple(a[None] for a in self.hi),
+            tn = _slab(tuple(a[:, None] for a in self.lo), tuple(a[:, None] for a in self.hi),
                        self.o, self.inv)
             sk = np.nonzero(self.skip >= 0)[0]
-            tn[sk, self.skip[sk]] = np.inf
+            tn[self.skip[sk], sk] = np.inf
             self._rounds(rays, None, tn, self._narrow, unique=True)
         else:
-            tg = _slab(tuple(a[None] for a in self.glo), tuple(a[None] for a in self.ghi),
+            tg = _slab(tuple(a[:, None] for a in self.glo), tuple(a[:, None] for a in self.ghi),
                        self.o, self.inv)
             self._rounds(rays, None, tg, self._members, unique=True)
         return self.t, self.face
 
     def _rounds(self, rays, items, tn, visit, unique):
-        """Visit the candidates ``items`` (None: the columns) of ``rays`` in two rounds."""
+        """Visit the candidates ``items`` (K, m) (None: the rows) of ``rays`` in two rounds.
+
+        ``tn`` (K, m) holds the box entry distance of every candidate row for every ray
+        column (``inf``: missed).
+        """
         m = len(rays)
         if m == 0:
             return
-        rows = np.arange(m)
-        first = np.argmin(tn, axis=1)
-        t0 = tn[rows, first]
+        cols = np.arange(m)
+        t0 = tn.min(axis=0)
         has = t0 < np.inf
         if not has.any():
             return
+        first = _first_index(tn, t0)  # nearest box (lowest index on ties)
         h = np.nonzero(has)[0]
-        visit(rays[h], first[h] if items is None else items[h, first[h]], unique)
-        if tn.shape[1] == 1:
+        visit(rays[h], first[h] if items is None else items[first[h], h], unique)
+        if tn.shape[0] == 1:
             return
-        tn[rows, first] = np.inf
+        tn[first, cols] = np.inf
         # misses are inf: compare with the largest finite float where nothing is hit yet
-        rest = tn <= np.minimum(self.t[rays], _BIG)[:, None]
-        i, j = np.nonzero(rest)
+        rest = tn <= np.minimum(self.t[rays], _BIG)
+        j, i = np.nonzero(rest)
         if len(i):
-            visit(rays[i], j if items is None else items[i, j], False)
+            visit(rays[i], j if items is None else items[j, i], False)
 
     def _members(self, rays, groups, unique):
-        mem = self.cs.group_members[groups]  # (m, K)
+        mem = self.cs.group_members[groups].T  # (K, m)
         valid = mem >= 0
         mc = np.where(valid, mem, 0)
         tn = _slab(tuple(a[mc] for a in self.lo), tuple(a[mc] for a in self.hi),
                    self.o[rays], self.inv[rays])
-        tn[~valid | (mc == self.skip[rays][:, None])] = np.inf
+        tn[~valid | (mc == self.skip[rays])] = np.inf
         self._rounds(rays, mc, tn, self._narrow, unique)
 
     def _narrow(self, rays, solid, unique):
