@@ -378,8 +378,10 @@ def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
         ri, di = np.nonzero(ok)
         if len(ri):
             tp = td[ri, di]
-            rel = origin[ri] + tp[:, None] * direction[ri]
-            rel -= cs.det_position[di]
+            rel = np.empty((len(ri), 3))
+            for a in range(3):  # per component: long loops
+                np.add(origin[ri, a], tp * direction[ri, a], out=rel[:, a])
+                rel[:, a] -= cs.det_position[di, a]
             u = _dot(rel, cs.det_x[di])
             v = _dot(rel, cs.det_y[di])
             inb = (np.abs(u) <= cs.det_half[di, 0]) & (np.abs(v) <= cs.det_half[di, 1])
