@@ -1,40 +1,6 @@
-"""Quantity strings and numbers into SI floats, and SI floats back into readable strings.
+"""Reading quantities: "<number> <unit>" strings and bare numbers into SI floats.
 
-Scene files and the command line write quantities with units ("25 mm", "45 deg",
-"550 nm", "10.7 GHz", "5 mW"); inside the program every quantity is a plain SI float
-(metres, radians, watts, hertz, kelvin, pascals). This module is the only place where
-unit strings are read or written.
-
-A value is either a number (``int``/``float``/NumPy scalar, not ``bool``), which means
-the default unit of the call, or a string "<number> <unit>" (the space is optional).
-Units are case sensitive ("mW" is a milliwatt, "MW" is refused), except that a few
-unambiguous spellings such as "GHZ" or "Deg" are accepted. Both micro signs (U+00B5
-MICRO SIGN and U+03BC GREEK SMALL LETTER MU) and the ASCII "u" are accepted.
-
-Kinds
------
-``length`` [m], ``angle`` [rad], ``frequency`` [Hz], ``power`` [W], ``fraction`` [1]
-("50 %", "20 ppm"), ``temperature`` [K] ("15 degC", "288.15 K"), ``pressure`` [Pa],
-and ``wavelength`` [m]: a vacuum wavelength given either as a length or as a
-frequency f, converted by lambda = c / f with c = 299 792 458 m/s (exact, SI 2019).
-
-Errors are :class:`tracer.errors.UnitError` with messages written to follow a key path,
-e.g. ``solids.upper.size: expected a length, got "45 deg" (an angle); ...``.
-
-Examples
---------
->>> length("25 mm")
-0.025
->>> length(3)                      # bare number: default unit mm
-0.003
->>> round(angle("45 deg"), 12)
-0.785398163397
->>> wavelength("550 nm")
-5.5e-07
->>> round(wavelength("10.7 GHz"), 9)   # microwave: lambda = c / f
-0.028017987
->>> format_length(5e-6)
-'5 µm'
+See :mod:`tracer.units` for the accepted forms and the error messages.
 """
 
 from __future__ import annotations
@@ -42,122 +8,16 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Iterable
-from dataclasses import dataclass
 
 import numpy as np
 
 from tracer.errors import UnitError
 
-__all__ = [
-    "SPEED_OF_LIGHT",
-    "KINDS",
-    "STANDARD_DEFAULTS",
-    "parse",
-    "parse_array",
-    "length",
-    "angle",
-    "frequency",
-    "wavelength",
-    "power",
-    "fraction",
-    "temperature",
-    "pressure",
-    "bandwidth",
-    "accepted_units",
-    "format_length",
-    "format_wavelength",
-    "format_angle",
-    "format_frequency",
-    "format_power",
-    "format_quantity",
-]
+from .table import (_ARTICLE, _UNITS, SPEED_OF_LIGHT, STANDARD_DEFAULTS, _check_kind, _expected, _lookup,
+                    _normalise_symbol, _to_si, accepted_units)
 
-#: Speed of light in vacuum [m/s], exact by the definition of the metre (SI, 1983/2019).
-SPEED_OF_LIGHT = 299_792_458.0
-
-_MICRO_SIGNS = ("µ", "μ")  # U+00B5 MICRO SIGN, U+03BC GREEK SMALL LETTER MU
-
-
-@dataclass(frozen=True)
-class _Unit:
-    """A linear (or affine, for temperature) unit: si = value * scale + offset."""
-
-    symbol: str
-    scale: float
-    offset: float = 0.0
-
-
-def _table(*entries: tuple[str, float] | tuple[str, float, float]) -> dict[str, _Unit]:
-    out: dict[str, _Unit] = {}
-    for entry in entries:
-        unit = _Unit(*entry)
-        out[unit.symbol] = unit
-    return out
-
-
-_DEG = math.pi / 180.0
-
-# Canonical spelling first in each family: the first symbols are listed in messages.
-_UNITS: dict[str, dict[str, _Unit]] = {
-    "length": _table(
-        ("m", 1.0), ("cm", 1e-2), ("mm", 1e-3), ("um", 1e-6), ("µm", 1e-6), ("μm", 1e-6),
-        ("nm", 1e-9), ("pm", 1e-12), ("km", 1e3), ("micron", 1e-6), ("microns", 1e-6),
-        ("\u00c5", 1e-10), ("\u212b", 1e-10), ("angstrom", 1e-10), ("in", 0.0254), ("inch", 0.0254),
-        ("mil", 25.4e-6),
-    ),
-    "angle": _table(
-        ("deg", _DEG), ("°", _DEG), ("rad", 1.0), ("mrad", 1e-3), ("urad", 1e-6),
-        ("µrad", 1e-6), ("μrad", 1e-6), ("arcmin", _DEG / 60.0), ("arcsec", _DEG / 3600.0),
-        ("degree", _DEG), ("degrees", _DEG), ("′", _DEG / 60.0), ("″", _DEG / 3600.0),
-    ),
-    "frequency": _table(
-        ("Hz", 1.0), ("kHz", 1e3), ("MHz", 1e6), ("GHz", 1e9), ("THz", 1e12), ("PHz", 1e15),
-    ),
-    "power": _table(
-        ("W", 1.0), ("mW", 1e-3), ("uW", 1e-6), ("µW", 1e-6), ("μW", 1e-6), ("nW", 1e-9),
-        ("pW", 1e-12), ("kW", 1e3),
-    ),
-    "fraction": _table(("1", 1.0), ("%", 1e-2), ("ppm", 1e-6)),
-    "temperature": _table(
-        ("K", 1.0), ("degC", 1.0, 273.15), ("°C", 1.0, 273.15), ("℃", 1.0, 273.15),
-        ("C", 1.0, 273.15),
-    ),
-    "pressure": _table(
-        ("Pa", 1.0), ("hPa", 1e2), ("kPa", 1e3), ("MPa", 1e6), ("mbar", 1e2), ("bar", 1e5),
-        ("atm", 101_325.0), ("Torr", 101_325.0 / 760.0),
-    ),
-}
-
-#: The kinds :func:`parse` understands.
-KINDS = (*_UNITS, "wavelength")
-
-_ARTICLE = {
-    "length": "a length",
-    "angle": "an angle",
-    "frequency": "a frequency",
-    "power": "a power",
-    "fraction": "a fraction",
-    "temperature": "a temperature",
-    "pressure": "a pressure",
-    "wavelength": "a wavelength (length or frequency)",
-}
-
-# Spellings accepted whatever their case, when that is unambiguous (see module doc).
-_FOLDED: dict[str, tuple[str, str]] = {}
-
-
-def _build_folded() -> None:
-    counts: dict[str, int] = {}
-    for table in _UNITS.values():
-        for symbol in table:
-            counts[symbol.lower()] = counts.get(symbol.lower(), 0) + 1
-    for kind, table in _UNITS.items():
-        for symbol in table:
-            if len(symbol) >= 3 and counts[symbol.lower()] == 1:
-                _FOLDED[symbol.lower()] = (kind, symbol)
-
-
-_build_folded()
+__all__ = ["parse", "parse_array", "length", "angle", "frequency", "wavelength", "power", "fraction",
+           "temperature", "pressure", "bandwidth"]
 
 _NUMBER = r"[+-]?(?:\d+(?:[.,_]\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
 _QUANTITY = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<unit>.*?)\s*$")
@@ -166,64 +26,6 @@ _QUANTITY = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<unit>.*?)\s*$")
 def _describe(value: object) -> str:
     return f'"{value}"' if isinstance(value, str) else repr(value)
 
-
-def accepted_units(kind: str) -> list[str]:
-    """Unit symbols accepted for ``kind`` (canonical spellings first).
-
-    >>> accepted_units("angle")[:4]
-    ['deg', '°', 'rad', 'mrad']
-    """
-    _check_kind(kind)
-    if kind == "wavelength":
-        return [*_UNITS["length"], *_UNITS["frequency"]]
-    return list(_UNITS[kind])
-
-
-def _short_list(kind: str) -> str:
-    if kind == "wavelength":
-        units = ["m", "mm", "um", "µm", "nm", "GHz", "THz", "MHz", "Hz"]
-    else:
-        units = [u for u in _UNITS[kind]
-                 if u not in ("\u03bcm", "\u03bcrad", "\u03bcW", "\u212b", "\u2103")]
-    return ", ".join(units)
-
-
-def _check_kind(kind: str) -> None:
-    if kind not in KINDS:
-        raise ValueError(f"unknown quantity kind {kind!r}; known kinds: {', '.join(KINDS)}")
-
-
-def _lookup(symbol: str) -> list[tuple[str, _Unit]]:
-    """Every (kind, unit) the symbol may mean."""
-    hits = [(kind, table[symbol]) for kind, table in _UNITS.items() if symbol in table]
-    if not hits and symbol.lower() in _FOLDED:
-        kind, canonical = _FOLDED[symbol.lower()]
-        hits = [(kind, _UNITS[kind][canonical])]
-    return hits
-
-
-def _normalise_symbol(symbol: str) -> str:
-    symbol = " ".join(symbol.split())
-    if symbol in ("deg C", "° C", "degrees C"):
-        return "degC"
-    return symbol
-
-
-def _expected(kind: str, default: str | None) -> str:
-    text = f"accepted units: {_short_list(kind)}"
-    if default is not None:
-        text += f"; a bare number means {default}"
-    return text
-
-
-def _to_si(number: float, unit: _Unit) -> float:
-    return number * unit.scale + unit.offset
-
-
-#: Unit of a bare number when :func:`parse` is not told one.
-STANDARD_DEFAULTS = {"length": "mm", "angle": "deg", "frequency": "GHz", "power": "W",
-                     "fraction": "1", "temperature": "degC", "pressure": "Pa",
-                     "wavelength": "nm"}
 
 _UNSET = object()
 
@@ -236,7 +38,7 @@ def parse(value: object, kind: str, default: str | None = _UNSET) -> float:  # t
     value : str or real number
         "<number> <unit>" or a bare number (in ``default``).
     kind : str
-        One of :data:`KINDS`.
+        One of :data:`tracer.units.KINDS`.
     default : str or None, optional
         Unit of a bare number; ``None`` means a unit must be written. Omitted: the
         kind's entry in :data:`STANDARD_DEFAULTS` (mm, deg, nm, W, ...).
@@ -534,115 +336,3 @@ def bandwidth(value: object, *, center: float, default: str | None = "nm") -> fl
     if result < 0:
         raise UnitError(f"expected a non-negative bandwidth, got {_describe(value)}")
     return result
-
-
-# ---------------------------------------------------------------- formatting
-
-def _fmt_number(x: float, digits: int) -> str:
-    text = f"{x:.{digits}g}"
-    if "e" in text:
-        mantissa, exponent = text.split("e")
-        text = f"{mantissa}e{int(exponent)}"
-    return text
-
-
-def _pick(x: float, ladder: tuple[tuple[str, float], ...], digits: int) -> str:
-    if x == 0.0:
-        return f"0 {ladder[-1][0] if ladder[-1][1] == 1.0 else ladder[0][0]}"
-    if not math.isfinite(x):
-        return f"{x} {[s for s, f in ladder if f == 1.0][0]}"
-    mag = abs(x)
-    for symbol, factor in ladder:
-        if mag >= factor * (1 - 5e-13):
-            return f"{_fmt_number(x / factor, digits)} {symbol}"
-    symbol, factor = ladder[-1]
-    return f"{_fmt_number(x / factor, digits)} {symbol}"
-
-
-_LENGTH_LADDER = (("m", 1.0), ("mm", 1e-3), ("µm", 1e-6), ("nm", 1e-9), ("pm", 1e-12))
-_POWER_LADDER = (("kW", 1e3), ("W", 1.0), ("mW", 1e-3), ("µW", 1e-6), ("nW", 1e-9),
-                 ("pW", 1e-12))
-_FREQ_LADDER = (("PHz", 1e15), ("THz", 1e12), ("GHz", 1e9), ("MHz", 1e6), ("kHz", 1e3),
-                ("Hz", 1.0))
-
-
-def format_length(x: float, *, digits: int = 6) -> str:
-    """A length [m] as a readable string in m, mm, µm, nm or pm.
-
-    >>> format_length(0.025), format_length(5e-6), format_length(1.5), format_length(0.0)
-    ('25 mm', '5 µm', '1.5 m', '0 m')
-    """
-    return _pick(float(x), _LENGTH_LADDER, digits)
-
-
-def format_wavelength(x: float, *, digits: int = 6) -> str:
-    """A vacuum wavelength [m]: nm below 10 µm, else the length ladder.
-
-    >>> format_wavelength(5.5e-7), format_wavelength(1.064e-6), format_wavelength(0.028)
-    ('550 nm', '1064 nm', '28 mm')
-    """
-    x = float(x)
-    if 0.0 < abs(x) < 10e-6:
-        return f"{_fmt_number(x / 1e-9, digits)} nm"
-    return _pick(x, _LENGTH_LADDER, digits)
-
-
-def format_angle(x: float, *, digits: int = 6, unit: str = "deg") -> str:
-    """An angle [rad] in degrees ("45°"), or in another angle unit ("rad", "arcsec", ...).
-
-    >>> format_angle(math.pi / 4)
-    '45°'
-    >>> format_angle(1e-5, unit="arcsec")
-    '2.06265 arcsec'
-    """
-    table = _UNITS["angle"]
-    if unit not in table:
-        raise ValueError(f"unknown angle unit {unit!r}")
-    value = _fmt_number(float(x) / table[unit].scale, digits)
-    if unit in ("deg", "°"):
-        return f"{value}°"
-    return f"{value} {unit}"
-
-
-def format_frequency(x: float, *, digits: int = 6) -> str:
-    """A frequency [Hz] in Hz, kHz, MHz, GHz, THz or PHz.
-
-    >>> format_frequency(10.7e9)
-    '10.7 GHz'
-    """
-    return _pick(float(x), _FREQ_LADDER, digits)
-
-
-def format_power(x: float, *, digits: int = 6) -> str:
-    """A power [W] in kW, W, mW, µW, nW or pW.
-
-    >>> format_power(0.005), format_power(2e-6)
-    ('5 mW', '2 µW')
-    """
-    return _pick(float(x), _POWER_LADDER, digits)
-
-
-def format_quantity(x: float, kind: str, *, digits: int = 6) -> str:
-    """Format an SI value of ``kind`` (length, wavelength, angle, frequency, power, ...).
-
-    >>> format_quantity(0.5, "fraction")
-    '50 %'
-    """
-    if kind == "length":
-        return format_length(x, digits=digits)
-    if kind == "wavelength":
-        return format_wavelength(x, digits=digits)
-    if kind == "angle":
-        return format_angle(x, digits=digits)
-    if kind == "frequency":
-        return format_frequency(x, digits=digits)
-    if kind == "power":
-        return format_power(x, digits=digits)
-    if kind == "fraction":
-        return f"{_fmt_number(float(x) * 100.0, digits)} %"
-    if kind == "temperature":
-        return f"{_fmt_number(float(x), digits)} K"
-    if kind == "pressure":
-        return f"{_fmt_number(float(x), digits)} Pa"
-    _check_kind(kind)
-    raise AssertionError(kind)
