@@ -11,7 +11,7 @@ import pytest
 import tracer
 from pair_scenes import ftir_pair_toml
 from tracer.cli import main
-from tracer.scene import load, loads
+from tracer.scene import loads
 from tracer.sweep import (Tolerance, ToleranceError, parse_tol_option, read_tolerances, spearman,
                           tolerance_run)
 from tracer.sweep.tolerance import draw_deltas
