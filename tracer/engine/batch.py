@@ -114,7 +114,11 @@ class RayBatch:
 
     def take(self, index) -> "RayBatch":
         """A new batch of the rays selected by ``index`` (bool mask or integer array)."""
-        return RayBatch(**{f.name: getattr(self, f.name)[index] for f in fields(self)})
+        if not isinstance(index, slice):
+            index = np.asarray(index)
+            if index.dtype == bool:  # one nonzero instead of one mask pass per array
+                index = np.flatnonzero(index)
+        return RayBatch(**{name: getattr(self, name)[index] for name in _FIELDS})
 
     @staticmethod
     def concatenate(batches: list["RayBatch"]) -> "RayBatch":
@@ -124,12 +128,8 @@ class RayBatch:
             return RayBatch.empty(0)
         if len(batches) == 1:
             return batches[0]
-        return RayBatch(
-            **{
-                f.name: np.concatenate([getattr(b, f.name) for b in batches])
-                for f in fields(RayBatch)
-            }
-        )
+        return RayBatch(**{name: np.concatenate([getattr(b, name) for b in batches])
+                           for name in _FIELDS})
 
     def split(self, size: int) -> list["RayBatch"]:
         """Consecutive pieces of at most ``size`` rays."""
@@ -137,6 +137,9 @@ class RayBatch:
         if n <= size:
             return [self]
         return [self.take(slice(i, i + size)) for i in range(0, n, size)]
+
+
+_FIELDS = tuple(f.name for f in fields(RayBatch))
 
 
 def ray_power(field: np.ndarray, coherency: np.ndarray) -> np.ndarray:
