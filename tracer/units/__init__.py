@@ -37,6 +37,8 @@ Examples
 '5 µm'
 """
 
+from tracer.errors import UnitError  # noqa: F401 - tracer.units.UnitError, as before the split
+
 from .formatting import (format_angle, format_frequency, format_length, format_power, format_quantity,
                          format_wavelength)
 from .parsing import (angle, bandwidth, fraction, frequency, length, parse, parse_array, power, pressure,
