@@ -5,9 +5,17 @@ the largest ``t`` of the planes it crosses inwards and leaves at the smallest ``
 the planes it crosses outwards, and hits the solid when entry <= exit (the slab method
 generalised to arbitrary planes; Kay and Kajiya, "Ray tracing complex scenes",
 SIGGRAPH 1986). All candidate (ray, solid) pairs are clipped in one broadcasting
-expression over the padded plane array. A slab test against each solid's axis-aligned
-box chooses the candidate pairs (broad phase), so the cost grows with the solids a ray
-can reach, not with all solids in the scene. Rays inside a convex solid only look for
+expression over the padded plane array (plane-major: one row per plane).
+
+Broad phase for rays in the ambient: a slab test against each solid's axis-aligned box
+(scenes of more than ``GROUP_MIN_SOLIDS`` solids first test boxes around groups of about
+sqrt(S) nearby solids, then the member boxes of the groups a ray meets). Candidates are
+visited nearest box first: round 0 clips each ray against its nearest candidate, round 1
+against the remaining candidates whose box entry is not beyond the best hit so far, so a
+ray usually clips one solid whatever the number of solids behind it. The convex solid a
+ray has just left is skipped when the ray provably cannot re-enter it (see
+:func:`_left_behind`). The result equals clipping every (ray, solid) pair, ties going to
+the higher solid index. Rays inside a convex solid only look for
 their exit among the planes they cross outwards, excluding the face they last left, so
 no offset is needed after a hit. Non-convex solids go through the geometry's own
 ``intersect`` (trimesh), with the origin moved by ``RAY_OFFSET``.
