@@ -52,7 +52,7 @@ def test_check_syntax_error(tmp_path, capsys):
 
 def test_check_missing_file(tmp_path, capsys):
     assert main(["check", str(tmp_path / "nope.toml")]) == 2
-    assert "cannot read the file" in capsys.readouterr().err
+    assert "no such scene file" in capsys.readouterr().err
 
 
 def test_check_json_structure(capsys):

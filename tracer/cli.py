@@ -43,8 +43,16 @@ def _available_commands():
                 raise
 
 
+class _Parser(argparse.ArgumentParser):
+    """An option mistake is one line (what is wrong) and where to read more, exit 2."""
+
+    def error(self, message):
+        self.exit(EXIT_INPUT_ERROR, f"{self.prog}: error: {message}\n"
+                                    f"(see '{self.prog} --help')\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="tracer",
         description="Polarisation-aware ray tracing of prism assemblies: where every milliwatt goes.",
         epilog="Exit codes: 0 success, 1 a requirement failed, 2 input error.",

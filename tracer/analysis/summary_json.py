@@ -12,10 +12,18 @@ import json
 import os
 from dataclasses import dataclass, field
 
-__all__ = ["RunAnalysis", "analyse", "run_summary", "write_json", "SCHEMA_NAME", "SCHEMA_VERSION"]
+__all__ = ["RunAnalysis", "analyse", "run_summary", "write_json", "SCHEMA_NAME", "SCHEMA_VERSION",
+           "CAUTION"]
 
 SCHEMA_NAME = "tracer-run-summary"
 SCHEMA_VERSION = 1
+
+#: The ``caution`` key of every summary (our own wording; the full caution is in the
+#: README and in the HTML report).
+CAUTION = ("Engineering estimate from a geometric ray model with thin-film and evanescent "
+           "coefficients; not a safety certification. Ghost paths can carry hazardous laser or "
+           "microwave power in unexpected directions: measure them and follow the applicable "
+           "safety standards and exposure limits.")
 
 
 @dataclass
@@ -104,6 +112,7 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
     return dict(
         schema=SCHEMA_NAME,
         schema_version=SCHEMA_VERSION,
+        caution=CAUTION,
         tool=dict(name="tracer", version=__version__),
         scene=dict(title=getattr(scene, "title", ""), path=getattr(scene, "path", None),
                    dimension=int(getattr(scene, "dimension", 3))),

@@ -14,7 +14,13 @@ from pathlib import Path
 from ..errors import TracerError
 
 __all__ = ["add_scene", "add_trace_options", "add_output_options", "load_scene", "trace_scene",
-           "out_dir", "say", "plot_module", "write_text", "whole_number"]
+           "out_dir", "say", "plot_module", "write_text", "whole_number", "count_option",
+           "output_file", "scene_file_problem", "CAUTION_LINE"]
+
+#: The one-line safety caution at the end of the text output (the full text is in the
+#: README and in every HTML report).
+CAUTION_LINE = ("caution: an engineering estimate from a ray model, not a safety certification; "
+                "measure stray beams and follow the laser and RF safety rules that apply")
 
 
 def whole_number(text: str, *, minimum: int, expected: str) -> int:
@@ -31,6 +37,18 @@ def whole_number(text: str, *, minimum: int, expected: str) -> int:
     if value < minimum:
         raise argparse.ArgumentTypeError(f"expected {expected}, got {text!r}")
     return value
+
+
+def whole_option(minimum: int, expected: str):
+    """An argparse ``type`` for a whole number of at least ``minimum``."""
+    def parse(text: str) -> int:
+        return whole_number(text, minimum=minimum, expected=expected)
+    return parse
+
+
+def count_option(text: str) -> int:
+    """A count of 0 or more (``--top``, ``--segments``)."""
+    return whole_number(text, minimum=0, expected="0 or more")
 
 
 def _positive_int(text: str) -> int:
@@ -82,13 +100,45 @@ def add_output_options(parser, *, out: bool = True, json_help: str | None = None
     parser.add_argument("--quiet", "-q", action="store_true", help="print only problems and failures")
 
 
+def scene_file_problem(path: str) -> str | None:
+    """What is wrong with ``path`` as a scene file argument (missing, a folder), else None."""
+    if not os.path.exists(path):
+        return f"{path}: no such scene file"
+    if os.path.isdir(path):
+        return (f"{path}: is a folder, not a scene file; give the .toml files in it "
+                f"(for example {os.path.join(path, '*.toml')})")
+    return None
+
+
 def load_scene(path: str):
     """Load a scene; a missing file or any problem is a TracerError listing every problem."""
     from ..scene import load
 
-    if not os.path.exists(path):
-        raise TracerError(f"{path}: no such scene file")
+    problem = scene_file_problem(path)
+    if problem:
+        raise TracerError(problem)
     return load(path)
+
+
+def output_file(path: str | None, option: str, *, example: str = "results.json") -> str | None:
+    """Check an output file option (``--json PATH``, ``--csv PATH``) before any work:
+    not a folder, and its folder exists or can be made (it is made). ``example`` is the
+    file name suggested when a folder is given."""
+    if path is None:
+        return None
+    p = Path(path)
+    if p.is_dir():
+        raise TracerError(f"{option} {path}: is a folder; give a file name such as {p / example}")
+    parent = p.parent
+    if not parent.exists():
+        try:
+            parent.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise TracerError(f"{option} {path}: cannot create the folder {parent}: "
+                              f"{exc.strerror or exc}") from None
+    elif not parent.is_dir():
+        raise TracerError(f"{option} {path}: {parent} is not a folder")
+    return path
 
 
 def trace_settings(args) -> dict:
@@ -118,6 +168,8 @@ def out_dir(path: str | None, default: str | None = None) -> Path | None:
     if target is None:
         return None
     p = Path(target)
+    if p.exists() and not p.is_dir():
+        raise TracerError(f"--out {target}: is a file, not a folder; give a folder name")
     try:
         p.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

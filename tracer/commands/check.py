@@ -14,11 +14,13 @@ import sys
 
 NAME = "check"
 HELP = "validate scene files and summarise solids, faces, gaps, sources, detectors, requirements"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer check scenes/tir_prism_pair.toml
   tracer check scenes/*.toml
-  tracer check --json scenes/cube_camera.toml > cube.json
+  tracer check --json scenes/cube_beamsplitter_camera.toml > cube.json
+
+exit codes: 0 every scene valid, 2 a scene has a problem (all of them are printed)
 """
 
 
@@ -32,9 +34,15 @@ def add_arguments(parser) -> None:
 
 def run(args) -> int:
     from ..scene import SceneError, format_summary, load, summarize
+    from ..scene.problems import Problem
+    from ._common import scene_file_problem
 
     summaries, problems = [], []
     for path in args.scenes:
+        bad = scene_file_problem(path)
+        if bad:
+            problems.append(Problem(file=path, key="", message=bad.split(": ", 1)[1]))
+            continue
         try:
             scene = load(path)
         except SceneError as exc:

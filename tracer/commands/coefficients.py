@@ -19,25 +19,31 @@ from ..errors import TracerError
 
 NAME = "coefficients"
 HELP = "tabulate reflectance and tunnelling through a prism/gap/prism layer against gap thickness"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer coefficients --prism glass:517642 --gap air --angle "45 deg" --wavelength "550 nm"
   tracer coefficients --prism 1.44 --gap 1.0 --angle 45 --wavelength "10.7 GHz" --thickness 0mm 30mm 7
   tracer coefficients --prism fused-silica --thickness "0 um" "2 um" 21 --json table.json
+
+exit codes: 0 success, 2 input error
 """
 
 
 def add_arguments(parser) -> None:
-    parser.add_argument("--prism", default="glass:517642",
-                        help="prism material: catalog name or a number (default: glass:517642)")
-    parser.add_argument("--gap", default="air", help="gap medium: catalog name or a number (default: air)")
-    parser.add_argument("--angle", default="45 deg", help="angle of incidence inside the prism (default: 45 deg)")
-    parser.add_argument("--wavelength", default="550 nm",
+    parser.add_argument("--prism", default="glass:517642", metavar="MATERIAL",
+                        help="prism material: catalog name, glass:NNNVVV or an index such as "
+                             "1.5168 (default: glass:517642)")
+    parser.add_argument("--gap", default="air", metavar="MATERIAL",
+                        help="gap medium: catalog name or an index (default: air)")
+    parser.add_argument("--angle", default="45 deg", metavar="ANGLE",
+                        help="angle of incidence inside the prism, from the normal, 0 to 90 deg "
+                             "(default: 45 deg)")
+    parser.add_argument("--wavelength", default="550 nm", metavar="W",
                         help="vacuum wavelength, or a frequency such as '10.7 GHz' (default: 550 nm)")
     parser.add_argument("--thickness", nargs=3, metavar=("FROM", "TO", "COUNT"),
                         default=["0 um", "1.5 um", "16"],
                         help="gap thickness range, e.g. '0 um' '1.5 um' 16 (default)")
-    parser.add_argument("--json", metavar="PATH", help="also write the table as JSON")
+    parser.add_argument("--json", metavar="PATH", help="also write the table as JSON to PATH")
 
 
 def _index(text: str, wavelength: float, option: str) -> tuple[complex, str]:
@@ -88,8 +94,14 @@ def gap_table(*, n_prism: complex, n_gap: complex, angle: float, wavelength: flo
 
 
 def run(args) -> int:
+    from . import _common as c
+
+    c.output_file(args.json, "--json", example="coefficients.json")
     wavelength = units.wavelength(args.wavelength)
     angle = units.angle(args.angle)
+    if not 0 <= angle <= math.pi / 2:
+        raise TracerError(f"--angle {args.angle}: expected an angle of incidence from 0 to 90 deg "
+                          "(measured from the face normal inside the prism)")
     start, stop = (units.length(v, default="um") for v in args.thickness[:2])
     try:
         count = int(args.thickness[2])
@@ -116,8 +128,10 @@ def run(args) -> int:
             print("; below it: the gap transmits as a thin film")
     print(f"{'gap':>12}  {'Rs':>10}  {'Rp':>10}  {'Ts':>10}  {'Tp':>10}")
     for d, rs, rp, ts, tp in zip(table["thickness_m"], table["Rs"], table["Rp"], table["Ts"], table["Tp"]):
-        print(f"{units.format_length(d):>12}  {rs:10.6f}  {rp:10.6f}  {ts:10.3e}  {tp:10.3e}")
+        gap = "0 (contact)" if d == 0 else units.format_length(d)
+        print(f"{gap:>12}  {rs:10.6f}  {rp:10.6f}  {ts:10.3e}  {tp:10.3e}")
+    print("R: reflected back into the first prism, T: transmitted into the second (tunnelling "
+          "beyond the critical angle); s and p polarisation, fractions of the incident power")
     if args.json:
-        with open(args.json, "w", encoding="utf-8") as fh:
-            json.dump(table, fh, indent=2)
+        c.write_text(args.json, json.dumps(table, indent=2) + "\n")
     return 0

@@ -35,7 +35,7 @@ def add_arguments(parser) -> None:
                         help=f"figure kind: {', '.join(KINDS)}, glb or all (repeatable; default rays)")
     parser.add_argument("--format", action="append", choices=("png", "svg"), metavar="FMT",
                         help="file format: png or svg (repeatable; default png)")
-    parser.add_argument("--segments", type=int, default=4000, metavar="N",
+    parser.add_argument("--segments", type=c.count_option, default=4000, metavar="N",
                         help="ray segments recorded for the diagrams (default 4000)")
     c.add_trace_options(parser)
     parser.add_argument("--out", metavar="DIR", default=".", help="output folder (default: current)")
@@ -62,6 +62,8 @@ def run(args) -> int:
     stem = c.scene_stem(scene)
     files = save_figures(result, analysis, out, kinds=kinds, formats=formats, skipped=skipped,
                          prefix=f"{stem}-")
+    if "far_field" in (args.kind or []) and not getattr(result.compiled, "far_fields", None):
+        skipped.append(("far_field", "the scene has no far-field detector"))
     if glb:
         try:
             from ..plot.export3d import export_glb
@@ -74,8 +76,9 @@ def run(args) -> int:
     if not args.quiet:
         for f in files:
             print(f"wrote {f}")
+    if not files:
+        why = "; ".join(f"{k}: {w}" for k, w in skipped)
+        raise TracerError(f"{args.scene}: no figure drawn" + (f" ({why})" if why else ""))
     for kind, why in skipped:
         print(f"tracer draw: {kind} not drawn: {why}")
-    if not files:
-        raise TracerError(f"no figure drawn for {args.scene}")
     return 0

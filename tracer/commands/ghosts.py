@@ -35,7 +35,7 @@ def add_arguments(parser) -> None:
     c.add_scene(parser)
     parser.add_argument("--detector", action="append", metavar="NAME",
                         help="only this detector (repeat for several; default every detector)")
-    parser.add_argument("--top", type=int, default=20, metavar="N",
+    parser.add_argument("--top", type=c.count_option, default=20, metavar="N",
                         help="paths printed per detector (default 20; files hold every path)")
     parser.add_argument("--csv", metavar="PATH", help="write the table of the one selected detector as CSV")
     c.add_trace_options(parser)
@@ -45,17 +45,24 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     from .. import __version__
     from ..analysis import ghost_table, write_json
+    from ..analysis.summary_json import CAUTION
     from ..errors import TracerError
+    from ..scene.problems import did_you_mean
 
     scene = c.load_scene(args.scene)
+    if not scene.detectors:
+        raise TracerError(f"{args.scene}: the scene has no detector, so there is no ghost table; "
+                          "add a [detectors.NAME] table (see docs/scene-format.md)")
     names = args.detector or list(scene.detectors)
     unknown = [n for n in names if n not in scene.detectors]
     if unknown:
-        raise TracerError(f"--detector {unknown[0]}: no such detector in {args.scene}; "
-                          f"detectors: {', '.join(scene.detectors) or 'none'}")
+        raise TracerError(f"--detector {unknown[0]}: no such detector in {args.scene}"
+                          f"{did_you_mean(unknown[0], scene.detectors)}")
     if args.csv and len(names) != 1:
         raise TracerError("--csv writes one table: choose one detector with --detector "
                           f"(detectors: {', '.join(names)}), or use --out DIR for all")
+    c.output_file(args.csv, "--csv", example="ghosts.csv")
+    c.output_file(args.json, "--json", example="ghosts.json")
     out = c.out_dir(args.out)
     result = c.trace_scene(scene, args)
     tables = {n: ghost_table(result, n) for n in names}
@@ -71,7 +78,7 @@ def run(args) -> int:
         for n, t in tables.items():
             written.append(str(c.write_text(out / f"ghosts-{n}.csv", t.to_csv())))
     if args.json:
-        write_json(dict(tool=dict(name="tracer", version=__version__),
+        write_json(dict(caution=CAUTION, tool=dict(name="tracer", version=__version__),
                         scene=dict(title=scene.title, path=scene.path),
                         source_power_w=float(result.source_power_w),
                         seed=int(result.options.seed),

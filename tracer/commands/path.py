@@ -29,8 +29,8 @@ EXAMPLES = """examples:
   tracer path scenes/tir_prism_pair.toml
   tracer path scenes/penta_prism_laser.toml --json penta-path.json
   tracer path scenes/plate_ghost.toml --sequence plate.front plate.back:R plate.front:R plate.back
-  tracer path scenes/cube_beamsplitter_camera.toml --source led --wavelength "630 nm" \\
-      --sequence cube_in.entrance cube_in.hypotenuse cube_out.exit
+  tracer path scenes/cube_beamsplitter_camera.toml --source beam --wavelength "532 nm" \\
+      --sequence a.leg_b a.hypotenuse:R a.leg_a monitor
 
 exit codes: 0 success, 1 the chief ray left the sequence, 2 input error
 """
@@ -59,19 +59,27 @@ def format_report(s: dict) -> str:
     body = []
     # a bulk column only when some segment before a face absorbs (lossy solids)
     lossy = any(st.get("bulk_transmittance", 1.0) < 1.0 for st in s["steps"])
+    so_far = 1.0
     for i, st in enumerate(s["steps"], 1):
         row = [str(i), st["face"], st["kind"], _deg(st.get("angle_of_incidence_deg")),
                _deg(st.get("critical_angle_deg")), _deg(st.get("tir_margin_deg")),
                fmt_sci(st.get("leakage"))]
         if lossy:
             row.append(fmt_fraction(st.get("bulk_transmittance", 1.0)))
-        row.append(fmt_fraction(st.get("power_fraction")) if "power_fraction" in st else
-                   fmt_fraction(st.get("power")))
+        # "kept": the share of the power arriving at this face that goes on along the path;
+        # "so far": what is left of the chief ray's power after this step
+        so_far *= float(st.get("bulk_transmittance", 1.0))
+        if "power_fraction" in st:
+            so_far *= float(st["power_fraction"])
+            row += [fmt_fraction(st["power_fraction"]), fmt_fraction(so_far)]
+        else:  # a detector: nothing is lost, the step reports the power that arrives
+            so_far = float(st.get("power", so_far))
+            row += ["-", fmt_fraction(so_far)]
         body.append(row)
     head = ["step", "face", "event", "incidence [°]", "critical [°]", "TIR margin [°]", "leakage"]
     head += ["bulk before"] if lossy else []
-    lines.append(format_table(head + ["kept"], body, align="r<<rrrr" + "r" * (len(head) - 5),
-                              indent="  "))
+    lines.append(format_table(head + ["kept", "so far"], body,
+                              align="r<<rrrr" + "r" * (len(head) - 4), indent="  "))
     if not s["complete"]:
         left = s.get("left_at") or {}
         where = left.get("hit") or "nothing (the ray left the assembly)"
@@ -93,7 +101,7 @@ def format_report(s: dict) -> str:
     st = s.get("output_stokes") or []
     if len(st) == 4 and st[0] > 0:
         dop = math.sqrt(sum(x * x for x in st[1:])) / st[0]
-        rows.append(["output Stokes", "(" + ", ".join(f"{x / st[0]:.4f}" for x in st)
+        rows.append(["output Stokes", "(" + ", ".join(f"{round(x / st[0], 4) + 0.0:.4f}" for x in st)
                      + f") × {fmt_sci(st[0])}, degree of polarisation {dop:.4f}"])
     lines.append(format_table(["", ""], rows, align="<<", indent="  ").split("\n", 1)[1])
     if not s.get("neighbours_complete", True):
@@ -106,7 +114,20 @@ def run(args) -> int:
     from ..analysis import write_json
     from ..engine import trace_sequence
 
+    from ..analysis.summary_json import CAUTION
+    from ..errors import TracerError
+    from ..scene.problems import did_you_mean
+
     scene = c.load_scene(args.scene)
+    c.output_file(args.json, "--json", example="path.json")
+    if not args.sequence and not scene.settings.sequence:
+        faces = [f"{n}.{f}" for n, s in scene.solids.items() for f in s.geometry.face_names]
+        raise TracerError(f"{args.scene}: no design path to follow: give --sequence SOLID.FACE ... "
+                          f"or add sequence = [\"solid.face\", ...] to the [trace] table "
+                          f"(faces: {', '.join(faces[:12])}{', ...' if len(faces) > 12 else ''})")
+    if args.source is not None and args.source not in scene.sources:
+        raise TracerError(f"--source {args.source}: no such source in {args.scene}"
+                          f"{did_you_mean(args.source, scene.sources)}")
     wavelength = units.wavelength(args.wavelength) if args.wavelength else None
     report = trace_sequence(scene, args.sequence, source=args.source, wavelength=wavelength)
     summary = report.summary()
@@ -114,7 +135,7 @@ def run(args) -> int:
         print(f"{scene.title} ({args.scene})")
         print(format_report(summary))
     if args.json:
-        write_json(dict(tool=dict(name="tracer", version=__version__),
+        write_json(dict(caution=CAUTION, tool=dict(name="tracer", version=__version__),
                         scene=dict(title=scene.title, path=scene.path), **summary), args.json)
         if not args.quiet:
             print(f"\nwrote {args.json}")

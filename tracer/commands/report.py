@@ -36,7 +36,7 @@ def add_arguments(parser) -> None:
                         help="also write the JSON run summary (one scene only)")
     parser.add_argument("--quiet", "-q", action="store_true", help="print only problems and failures")
     parser.add_argument("--no-figures", action="store_true", help="tables only (no matplotlib needed)")
-    parser.add_argument("--top", type=int, default=25, metavar="N",
+    parser.add_argument("--top", type=c.count_option, default=25, metavar="N",
                         help="rows per ghost table (default 25)")
 
 
@@ -48,6 +48,7 @@ def run(args) -> int:
     if args.json and len(args.scenes) != 1:
         raise TracerError("--json writes the summary of one scene: give one scene")
     scenes = [c.load_scene(p) for p in args.scenes]  # every input checked before tracing
+    c.output_file(args.json, "--json", example="summary.json")
     out = c.out_dir(args.out)
     settings = c.trace_settings(args)
     settings["progress"] = None if not args.quiet else False

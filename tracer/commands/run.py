@@ -16,6 +16,8 @@ error (every problem of the scene is printed), else 0.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from . import _common as c
 
 NAME = "run"
@@ -35,7 +37,7 @@ def add_arguments(parser) -> None:
     c.add_scene(parser)
     c.add_trace_options(parser)
     c.add_output_options(parser)
-    parser.add_argument("--top", type=int, default=10, metavar="N",
+    parser.add_argument("--top", type=c.count_option, default=10, metavar="N",
                         help="paths shown per detector in the printed ghost tables (default 10; "
                              "files hold every path)")
     parser.add_argument("--no-figures", action="store_true",
@@ -46,6 +48,7 @@ def run(args) -> int:
     from ..analysis import analyse, format_verdicts, run_summary, write_json
 
     scene = c.load_scene(args.scene)
+    c.output_file(args.json, "--json", example="summary.json")
     out = c.out_dir(args.out)
     want_figures = out is not None and not args.no_figures
     result = c.trace_scene(scene, args, segments=4000 if want_figures else 0)
@@ -63,6 +66,10 @@ def run(args) -> int:
         for table in analysis.ghosts.values():
             print()
             print(table.format_text(limit=top))
+        if not scene.detectors:
+            print()
+            print("detectors: none declared, so no light is recorded (the budget above still "
+                  "closes); add a [detectors.NAME] table to get ghost tables")
         print()
     if analysis.verdicts and (not args.quiet or not analysis.passed):
         print(format_verdicts(analysis.verdicts))
@@ -75,8 +82,9 @@ def run(args) -> int:
         write_json(summary, args.json)
         written.append(args.json)
     if out is not None:
-        write_json(summary, out / "summary.json")
-        written.append(str(out / "summary.json"))
+        if not (args.json and Path(args.json).resolve() == (out / "summary.json").resolve()):
+            write_json(summary, out / "summary.json")
+            written.append(str(out / "summary.json"))
         written.append(str(c.write_text(out / "budget.csv", analysis.budget.to_csv())))
         for name, table in analysis.ghosts.items():
             written.append(str(c.write_text(out / f"ghosts-{name}.csv", table.to_csv())))
@@ -88,7 +96,10 @@ def run(args) -> int:
                                                      kinds=("budget", "rays"), skipped=skipped)]
             for kind, why in skipped:
                 c.say(args, f"figure {kind} not drawn: {why}")
-    if written and not args.quiet:
+    if not args.quiet:
+        if written:
+            print()
+            print("wrote " + ", ".join(written))
         print()
-        print("wrote " + ", ".join(written))
+        print(c.CAUTION_LINE)
     return 0 if analysis.passed else 1

@@ -27,14 +27,18 @@ from . import _common as c
 
 NAME = "sweep"
 HELP = "trace a scene over a range of values of one or more keys (a table and figures)"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
-  tracer sweep scenes/tir_prism_pair.toml --vary solids.upper.position[0] 20.0035 20.01 8 --rays 21
-  tracer sweep pair.toml --vary solids.upper.mate.gap 0.05um 1um 20 --out results/gap --workers 2
+  tracer sweep scenes/microwave_prism_coupler.toml --vary solids.output.mate.gap "2 mm" "40 mm" 20
+  tracer sweep scenes/microwave_prism_coupler.toml --vary solids.output.mate.gap 5mm 30mm 6 \\
+      --out results/gap --workers 2
   tracer sweep scenes/penta_prism_laser.toml --values solids.penta.rotation[2] "0 deg,1 deg,2 deg"
-  tracer sweep pair.toml --vary solids.upper.mate.gap 0.1um 1um 10 --scheduler tcp://scheduler.example:8786
-  tracer sweep pair.toml --vary solids.lower.rotation[2] "-1 deg" "1 deg" 9
-  (a negative value with a unit needs the space: "-1 deg", not -1deg)
+  tracer sweep scenes/microwave_prism_coupler.toml --vary solids.input.rotation "-2 deg" "2 deg" 5 \\
+      --vary solids.output.mate.gap 5mm 20mm 4
+  tracer sweep scenes/microwave_prism_coupler.toml --vary solids.output.mate.gap 5mm 30mm 6 \\
+      --scheduler tcp://scheduler.example:8786
+  (a negative value with a unit needs the space: "-1 deg", not -1deg; the Dask example needs
+  pip install 'tracer[dask]' and a running scheduler)
 
 exit codes: 0 success, 2 input error (also when a point cannot be loaded or traced)
 """
@@ -69,7 +73,8 @@ def add_parallel_options(parser) -> None:
     """``--workers N``, ``--scheduler ADDRESS``, ``--start-method``."""
     g = parser.add_argument_group("parallel work")
     g.add_argument("--workers", type=_workers, metavar="N",
-                   help="local worker processes (0: one per CPU; default 1)")
+                   help="local worker processes: a whole number >= 1, or 'auto' for one per CPU "
+                        "(default 1)")
     g.add_argument("--scheduler", metavar="ADDRESS",
                    help="run on a Dask cluster, e.g. tcp://scheduler.example:8786 (needs dask[distributed])")
     g.add_argument("--start-method", choices=("spawn", "fork", "forkserver"), default="spawn",
@@ -77,7 +82,39 @@ def add_parallel_options(parser) -> None:
 
 
 def _workers(text: str) -> int:
-    return c.whole_number(text, minimum=0, expected="0 or more workers")
+    """``--workers``: N >= 1, or ``auto`` (0 for the backend: one per CPU)."""
+    if text.strip().lower() == "auto":
+        return 0
+    return c.whole_number(text, minimum=1, expected="1 or more worker processes (or 'auto' "
+                                                     "for one per CPU)")
+
+
+def check_new_keys(scene_path: str, values: dict, option: str) -> None:
+    """Load the scene once with each changed key that the file does not hold yet, so that a
+    misspelt key path is one clear message before any point is traced (a key the file
+    holds was loaded already; an optional key the format knows is accepted)."""
+    from ..errors import SceneError, TracerError
+    from ..scene import from_dict
+    from ..sweep import KeyPathError, get_value, with_values
+    from ..sweep.runner import document_of
+
+    doc, path, base = document_of(scene_path)
+    for key, value in values.items():
+        try:
+            get_value(doc, key)
+            continue  # the file holds it: its value is checked point by point
+        except KeyPathError:
+            pass
+        changed = with_values(doc, {key: value})  # a missing table is a KeyPathError here
+        try:
+            from_dict(changed, path=path, base_dir=base)
+        except SceneError as exc:
+            mine = [p for p in exc.problems if p.key == key or p.key.startswith(key + ".")
+                    or p.key.startswith(key + "[")]
+            if mine:
+                raise TracerError(f"{option} {key}: {mine[0].message}") from None
+        except TracerError:
+            pass  # another kind of problem: reported with its point
 
 
 def make_backend(args):
@@ -96,8 +133,13 @@ def _axes(args):
             count = int(n)
         except ValueError:
             raise TracerError(f"--vary {path} {a} {b} {n}: COUNT must be a whole number") from None
+        if count < 1:
+            raise TracerError(f"--vary {path} {a} {b} {n}: COUNT must be 1 or more")
         axes.append(range_axis(path, parse_value(a), parse_value(b), count))
     for path, text in args.values:
+        if any(not part.strip() for part in text.split(",")):
+            raise TracerError(f"--values {path} {text!r}: an empty value between commas; "
+                              "expected values such as '0.1 um,0.2 um,0.5 um'")
         axes.append(list_axis(path, parse_values(text)))
     if not axes:
         raise TracerError("nothing to vary: give --vary KEYPATH FROM TO COUNT or --values KEYPATH LIST")
@@ -121,7 +163,7 @@ def _table(result) -> str:
     header = ["#"] + [a.label for a in result.axes] + cols
     rows = []
     for i, (p, r) in enumerate(zip(result.points, result.rows)):
-        cells = [str(i)] + [str(p[a.path]) for a in result.axes]
+        cells = [str(i)] + [_axis_cell(a, p[a.path]) for a in result.axes]
         for k in cols:
             v = r.get(k)
             cells.append("-" if v is None else ("yes" if v is True else "NO" if v is False
@@ -130,11 +172,30 @@ def _table(result) -> str:
     return format_table(header, rows, align="r" * len(header))
 
 
+def _axis_cell(axis, value) -> str:
+    """A swept value for the table, without the unit the column header already gives."""
+    from ..sweep.keypath import split_quantity
+
+    if axis.unit:
+        try:
+            number, unit = split_quantity(value)
+        except Exception:  # noqa: BLE001 - not a quantity: shown as written
+            return str(value)
+        if unit == axis.unit:
+            return f"{number:g}"
+    return str(value)
+
+
 def run(args) -> int:
     from ..sweep import sweep
 
+    c.load_scene(args.scene)  # the nominal scene first: its problems, not every point's
     settings = c.trace_settings(args)
     axes = _axes(args)
+    for option, given in (("--vary", args.vary), ("--values", args.values)):
+        firsts = {a.path: a.values[0] for a in axes if any(g[0] == a.path for g in given)}
+        check_new_keys(args.scene, firsts, option)
+    c.output_file(args.json, "--json", example="sweep.json")
     out = c.out_dir(args.out)
     backend = make_backend(args)
     try:

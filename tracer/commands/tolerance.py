@@ -18,15 +18,16 @@ tolerance only, so ``--workers`` and ``--scheduler`` never change the numbers.
 from __future__ import annotations
 
 from . import _common as c
-from .sweep import add_parallel_options, make_backend, states_from
+from .sweep import add_parallel_options, check_new_keys, make_backend, states_from
 
 NAME = "tolerance"
 HELP = "Monte Carlo tolerance analysis: yield, worst trials, sensitivity ranking, histograms"
-DESCRIPTION = __doc__
+DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer tolerance scenes/penta_prism_laser.toml --tol solids.penta.rotation[2] uniform 0.5deg --trials 200
-  tracer tolerance pair.toml --trials 500 --workers 2 --out results/tol
-  tracer tolerance pair.toml --tol solids.upper.mate.gap normal 0.05um --min-yield 0.95
+  tracer tolerance scenes/microwave_prism_coupler.toml --trials 500 --workers 2 --out results/tol
+  tracer tolerance scenes/microwave_prism_coupler.toml --tol solids.input.rotation normal 0.2deg \\
+      --min-yield 0.95
 
 exit codes: 0 success, 1 the yield is below --min-yield, 2 input error
 """
@@ -39,11 +40,13 @@ def add_arguments(parser) -> None:
                    metavar=("KEYPATH", "DIST", "SCALE"),
                    help="normal SIGMA or uniform HALF_WIDTH, e.g. --tol solids.p.rotation[2] "
                         "uniform 0.5deg (added to the scene's [tolerances])")
-    g.add_argument("--trials", type=int, default=100, metavar="N", help="random trials (default 100)")
+    g.add_argument("--trials", type=c.whole_option(1, "1 or more trials"), default=100, metavar="N",
+                   help="random trials (default 100)")
     g.add_argument("--oat", action="store_true",
                    help="also one-at-a-time sensitivities (+-1 standard deviation each)")
-    g.add_argument("--min-yield", type=float, metavar="FRACTION",
-                   help="exit 1 when fewer trials than this pass every requirement")
+    g.add_argument("--min-yield", type=_yield_fraction, metavar="FRACTION",
+                   help="exit 1 when the fraction of trials that pass every requirement is "
+                        "below FRACTION (0 to 1, e.g. 0.95)")
     c.add_trace_options(parser)
     parser.add_argument("--no-polarization", action="store_true",
                         help="leave out the transmission for s and p input states")
@@ -56,13 +59,29 @@ def add_arguments(parser) -> None:
     parser.add_argument("--no-figures", action="store_true", help="with --out: tables only")
 
 
+def _yield_fraction(text: str) -> float:
+    import argparse
+
+    try:
+        value = float(text.rstrip("%")) / (100 if text.endswith("%") else 1)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a fraction such as 0.95, got {text!r}") from None
+    if not 0 <= value <= 1:
+        raise argparse.ArgumentTypeError(f"expected a fraction from 0 to 1 (or 0 % to 100 %), "
+                                         f"got {text!r}")
+    return value
+
+
 def run(args) -> int:
     from ..errors import TracerError
     from ..sweep import one_at_a_time, parse_tol_option, tolerance_run
 
     if args.trials < 1:
         raise TracerError(f"--trials {args.trials}: expected a positive number of trials")
+    c.load_scene(args.scene)  # the nominal scene first: its problems, not every trial's
     tols = [parse_tol_option(p, d, s) for p, d, s in args.tol]
+    check_new_keys(args.scene, {p: 0 for p, _, _ in args.tol}, "--tol")
+    c.output_file(args.json, "--json", example="tolerance.json")
     settings = c.trace_settings(args)
     seed = settings.pop("seed", None)
     out = c.out_dir(args.out)

@@ -61,21 +61,28 @@ def _auto_pixels(spec, loc, power, *, target: float = 4.0, max_holes: float = 0.
     from tracer.detectors import DetectorRecord
 
     nx, ny = spec.pixels
+    # the hits that shape the map: weak ghost hits landing on the same spots as the main
+    # beam must not count as extra rays per pixel (a 31-ray beam with four ghosts is
+    # still 31 rays)
+    strong = power >= 1e-2 * power.max() if len(power) else np.zeros(0, dtype=bool)
     while True:
         rec = DetectorRecord(dataclasses.replace(spec, pixels=(nx, ny)))
+        main = DetectorRecord(dataclasses.replace(spec, pixels=(nx, ny)))
         if len(power):
             rec.add(loc[:, 0], loc[:, 1], np.ones(len(power)))
+            main.add(loc[strong, 0], loc[strong, 1], np.ones(int(strong.sum())))
         on = rec.power_map() > 0
         lit = int(on.sum())
         if lit == 0:
             return nx, ny
+        lit_main = max(int((main.power_map() > 0).sum()), 1)
         # holes: dark pixels between lit neighbours (left and right, or above and below)
         pad = np.pad(on, 1)
         between = (pad[1:-1, :-2] & pad[1:-1, 2:]) | (pad[:-2, 1:-1] & pad[2:, 1:-1])
         holes = int((between & ~on).sum())
         rows, cols = np.nonzero(on)
         fill = lit / ((np.ptp(rows) + 1) * (np.ptp(cols) + 1))  # of the box around the light
-        if len(power) / lit >= target and holes <= max_holes * lit and fill >= 0.5:
+        if int(strong.sum()) / lit_main >= target and holes <= max_holes * lit and fill >= 0.5:
             return nx, ny
         nx2 = max(minimum, nx // 2) if nx > 1 else 1
         ny2 = max(minimum, ny // 2) if ny > 1 else 1

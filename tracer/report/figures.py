@@ -173,21 +173,43 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
             else:
                 budget = analysis.budget
             out.append(Figure("budget", "Power budget: where the source power goes", fn(budget)))
-        elif kind == "irradiance":
+        elif kind in ("irradiance", "stokes"):
+            if not planes:
+                skipped.append((kind, "the scene has no plane detector"))
             for det in planes:
-                if result.detector_power(det) > 0:
-                    out.append(Figure(f"irradiance-{det}", f"Irradiance on detector {det}",
-                                      fn(result, det)))
-        elif kind == "stokes":
-            for det in planes:
-                if result.detector_power(det) > 0:
-                    out.append(Figure(f"stokes-{det}", f"Normalised Stokes parameters on detector {det}",
-                                      fn(result, det)))
+                if result.detector_power(det) <= 0:
+                    skipped.append((f"{kind} {det}", "no light reached this detector"))
+                    continue
+                grid = map_grid(plot, result, det)
+                binning = _binning_note(result, det, grid)
+                if kind == "irradiance":
+                    out.append(Figure(f"irradiance-{det}", f"Irradiance on detector {det} [W/m²]"
+                                      + binning, fn(result, det, pixels=grid)))
+                else:
+                    out.append(Figure(f"stokes-{det}", f"Normalised Stokes parameters S1/S0, "
+                                      f"S2/S0, S3/S0 on detector {det}" + binning,
+                                      fn(result, det, pixels=grid)))
         elif kind == "far_field":
             for name in fars:
                 out.append(Figure(f"far-field-{name}", f"Radiant intensity by direction ({name})",
                                   fn(result, name)))
     return out
+
+
+def map_grid(plot, result, detector) -> tuple[int, int]:
+    """Pixel grid for the maps of ``detector``: its own grid coarsened (powers of two) until
+    the lit pixels get a few rays each, so that a sparse ray grid gives a smooth map rather
+    than a pattern of dots (power is conserved on any grid)."""
+    data = plot.irradiance_data(result, detector, pixels="auto")
+    return tuple(int(n) for n in data["detector"].pixels)
+
+
+def _binning_note(result, detector, grid) -> str:
+    own = tuple(int(n) for n in result.scene.detectors[detector].pixels)
+    if tuple(grid) == own:
+        return f" ({own[0]} x {own[1]} pixels)"
+    return (f" (binned on {grid[0]} x {grid[1]} pixels instead of the detector's "
+            f"{own[0]} x {own[1]}, so that each lit pixel gets several rays)")
 
 
 def figure_png(fig, *, dpi: int | None = None) -> bytes:
