@@ -87,6 +87,9 @@ class CompiledScene:
     group_lo: np.ndarray = None  # (G, 3) box of each group of solids, or None
     group_hi: np.ndarray = None
     group_members: np.ndarray = None  # (G, K) solid indices, -1 padding
+    group_members_t: np.ndarray = None  # (K, G) the same, member-major
+    member_lo: np.ndarray = None  # (3, K, G) member boxes by axis (padding: zeros)
+    member_hi: np.ndarray = None
 
     @property
     def n_solids(self) -> int:
@@ -241,6 +244,12 @@ def compile_scene(scene) -> CompiledScene:
             group_treatment.append(t)
         face_group[f] = groups[key]
     glo, ghi, gmem = box_groups(lo, hi)
+    mlo = mhi = gmem_t = None
+    if gmem is not None:
+        gmem_t = np.ascontiguousarray(gmem.T)
+        safe = np.where(gmem_t >= 0, gmem_t, 0)
+        mlo = np.ascontiguousarray(np.where((gmem_t >= 0)[..., None], lo[safe], 0.0).transpose(2, 0, 1))
+        mhi = np.ascontiguousarray(np.where((gmem_t >= 0)[..., None], hi[safe], 0.0).transpose(2, 0, 1))
     return CompiledScene(
         plane_nx=np.ascontiguousarray(plane_n[..., 0]),
         plane_ny=np.ascontiguousarray(plane_n[..., 1]),
@@ -251,6 +260,9 @@ def compile_scene(scene) -> CompiledScene:
         group_lo=glo,
         group_hi=ghi,
         group_members=gmem,
+        group_members_t=gmem_t,
+        member_lo=mlo,
+        member_hi=mhi,
         face_group=face_group,
         group_treatment=group_treatment,
         scene=scene,

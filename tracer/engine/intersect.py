@@ -287,13 +287,12 @@ class _Entry:
             visit(rays[i], j if items is None else items[j, i], False)
 
     def _members(self, rays, groups, unique):
-        mem = self.cs.group_members[groups].T  # (K, m)
-        valid = mem >= 0
-        mc = np.where(valid, mem, 0)
-        tn = _slab(tuple(a[mc] for a in self.lo), tuple(a[mc] for a in self.hi),
+        cs = self.cs
+        mem = np.take(cs.group_members_t, groups, axis=1)  # (K, m)
+        tn = _slab(np.take(cs.member_lo, groups, axis=2), np.take(cs.member_hi, groups, axis=2),
                    self.o[rays], self.inv[rays])
-        tn[~valid | (mc == self.skip[rays])] = np.inf
-        self._rounds(rays, mc, tn, self._narrow, unique)
+        tn[(mem < 0) | (mem == self.skip[rays])] = np.inf
+        self._rounds(rays, mem, tn, self._narrow, unique)
 
     def _narrow(self, rays, solid, unique):
         cs = self.cs
