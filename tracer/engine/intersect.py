@@ -34,6 +34,9 @@ from .compile import CompiledScene
 __all__ = ["nearest_hit", "box_candidates"]
 
 _BIG = np.finfo(float).max
+#: Nearest-group-first rounds before the remaining groups are visited together (long
+#: scenes: a ray that finds nothing in its nearest group tries the next one first).
+_GROUP_ROUNDS = 2
 
 
 def _dot(a, b):
@@ -257,34 +260,40 @@ class _Entry:
         else:
             tg = _slab(tuple(a[:, None] for a in self.glo), tuple(a[:, None] for a in self.ghi),
                        self.o, self.inv)
-            self._rounds(rays, None, tg, self._members, unique=True)
+            self._rounds(rays, None, tg, self._members, unique=True, nearest=_GROUP_ROUNDS)
         return self.t, self.face
 
-    def _rounds(self, rays, items, tn, visit, unique):
-        """Visit the candidates ``items`` (K, m) (None: the rows) of ``rays`` in two rounds.
+    def _rounds(self, rays, items, tn, visit, unique, nearest=1):
+        """Visit the candidates ``items`` (K, m) (None: the rows) of ``rays``, nearest first.
 
         ``tn`` (K, m) holds the box entry distance of every candidate row for every ray
-        column (``inf``: missed).
+        column (``inf``: missed). ``nearest`` rounds visit the nearest
+        remaining candidate of each ray whose box entry is not beyond the ray's best hit;
+        a last round visits all candidates still in reach at once.
         """
-        m = len(rays)
-        if m == 0:
-            return
-        cols = np.arange(m)
-        t0 = tn.min(axis=0)
-        has = t0 < np.inf
-        if not has.any():
-            return
-        first = _first_index(tn, t0)  # nearest box (lowest index on ties)
-        h = np.nonzero(has)[0]
-        visit(rays[h], first[h] if items is None else items[first[h], h], unique)
-        if tn.shape[0] == 1:
-            return
-        tn[first, cols] = np.inf
-        # misses are inf: compare with the largest finite float where nothing is hit yet
-        rest = tn <= np.minimum(self.t[rays], _BIG)
-        j, i = np.nonzero(rest)
-        if len(i):
-            visit(rays[i], j if items is None else items[j, i], False)
+        for r in range(nearest + 1):
+            if not len(rays):
+                return
+            # misses are inf: compare with the largest finite float where nothing is hit yet
+            reach = np.minimum(self.t[rays], _BIG)
+            if r == nearest:
+                j, i = np.nonzero(tn <= reach)
+                if len(i):
+                    visit(rays[i], j if items is None else items[j, i], False)
+                return
+            t0 = tn.min(axis=0)
+            h = np.flatnonzero(t0 <= reach)  # rays with a candidate still in reach
+            if not len(h):
+                return
+            first = _first_index(tn, t0)[h]  # nearest box (lowest index on ties)
+            visit(rays[h], first if items is None else items[first, h], unique)
+            if tn.shape[0] == 1:
+                return
+            tn[first, h] = np.inf
+            if r + 1 < nearest and len(h) < len(rays):
+                # only these rays can have candidates in reach in the next rounds
+                rays, tn = rays[h], tn[:, h]
+                items = None if items is None else items[:, h]
 
     def _members(self, rays, groups, unique):
         cs = self.cs
