@@ -245,9 +245,11 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
                     ax.add_patch(Polygon(xy / scale, closed=True, facecolor="none",
                                          edgecolor=darker(col), lw=0.8, ls=(0, (4, 3)), zorder=2))
         centre = (lo + hi) / 2
+        gap_faces = set()
         if gap_labels:
             for g in scene.gaps.values():
-                _gap_label(ax, g, cuts, centre, scale, width)
+                if _gap_label(ax, g, cuts, centre, scale, width, faces=face_labels):
+                    gap_faces |= {(g.solid_a, g.face_a), (g.solid_b, g.face_b)}
         for name, (seg, outline) in dets.items():
             if outline:
                 ax.add_patch(Polygon(seg / scale, closed=True, facecolor="none",
@@ -278,11 +280,15 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
                             fontsize=7.5, color=_style.INK, zorder=12, style="italic",
                             bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.6))
             if face_labels:
-                for name in scene.solids:
-                    for p0, p1, face, n2 in cuts[name].edges:
-                        spot = placer.place(p0, p1, n2, face)
-                        if spot is not None:
-                            _face_label(ax, spot[0] / scale, spot[1], face)
+                # longest edges first: where room is short, the short faces go unlabelled;
+                # the two faces of a gap are named in the gap's note instead
+                edges = [(name, e) for name in scene.solids for e in cuts[name].edges
+                         if not (gap_labels and (name, e[2]) in gap_faces)]
+                edges.sort(key=lambda ne: -float(np.linalg.norm(ne[1][1] - ne[1][0])))
+                for _, (p0, p1, face, n2) in edges:
+                    spot = placer.place(p0, p1, n2, face)
+                    if spot is not None:
+                        _face_label(ax, spot[0] / scale, spot[1], face)
         if scale_bar:
             _style.add_scale_bar(ax, width, scale=scale, loc="lower left")
         hl_label = None
@@ -381,6 +387,10 @@ class _LabelPlacer:
         self.tb.append(best + [half, 0])
         return best
 
+    #: Closest two label centre lines may come [pt]: a label is about 8 pt tall with its
+    #: white box, so nearer than this the boxes overlap.
+    CLEARANCE = 9.0
+
     def place(self, p0, p1, n2, text):
         L = float(np.linalg.norm(p1 - p0))
         u = (p1 - p0) / max(L, 1e-300)
@@ -389,16 +399,20 @@ class _LabelPlacer:
         f = self.FRACTIONS
         cand = p0[None] + f[:, None] * (p1 - p0)[None] - np.asarray(n2)[None] * inset
         fits = (f * L >= half + 2 * self.pt) & ((1 - f) * L >= half + 2 * self.pt)
-        samples = np.concatenate([cand, cand - half * u, cand + half * u])
+        along = np.linspace(-1.0, 1.0, 5)  # points along the label's centre line
+        samples = np.concatenate([cand + t * half * u for t in along])
         k = len(cand)
-        d_rays = _seg_distance(samples, self.a, self.b).reshape(3, k).min(axis=0)
+        d_rays = _seg_distance(samples, self.a, self.b).reshape(len(along), k).min(axis=0)
         score = np.minimum(d_rays, 14 * self.pt)
         if self.ta:
-            d_lab = _seg_distance(samples, np.array(self.ta), np.array(self.tb)).reshape(3, k).min(axis=0)
+            d_lab = _seg_distance(samples, np.array(self.ta),
+                                  np.array(self.tb)).reshape(len(along), k).min(axis=0)
+            # labels never overlap: a spot too close to one already placed is not a spot
+            fits &= d_lab >= self.CLEARANCE * self.pt
             score = np.minimum(score, d_lab - 2 * self.pt)
         score = score - 0.3 * self.pt * np.abs(f - 0.5) * 10
         if not fits.any():
-            return None  # the edge is shorter than its name: leave it unlabelled
+            return None  # the edge is too short for its name, or crowded: leave it unlabelled
         score = np.where(fits, score, -np.inf)
         best = cand[int(np.argmax(score))]
         self.ta.append(best - half * u)
@@ -423,10 +437,12 @@ def _end_label(ax, seg, direction, text):
                 fontsize=7, color=_style.INK, zorder=12)
 
 
-def _gap_label(ax, gap, cuts, centre, scale, width):
+def _gap_label(ax, gap, cuts, centre, scale, width, *, faces=False):
+    """Annotate a gap with its thickness and medium (and, with ``faces``, the two faces
+    on a second line); returns whether it was drawn."""
     edges = [e for e in cuts.get(gap.solid_a, ()).edges if e[2] == gap.face_a] if gap.solid_a in cuts else []
     if not edges:
-        return
+        return False
     p0, p1, _, n2 = max(edges, key=lambda e: np.linalg.norm(e[1] - e[0]))
     if np.linalg.norm(p1 - centre) < np.linalg.norm(p0 - centre):
         p0, p1 = p1, p0
@@ -435,8 +451,12 @@ def _gap_label(ax, gap, cuts, centre, scale, width):
     text_at = p1 + t * 0.09 * width + np.asarray(n2) * 0.04 * width
     off = text_at - target
     ha = "left" if off[0] > 0.02 * width else ("right" if off[0] < -0.02 * width else "center")
-    ax.annotate(format_gap(gap.thickness, gap.medium_name), xy=target / scale,
+    text = format_gap(gap.thickness, gap.medium_name)
+    if faces:
+        text += f"\n{gap.solid_a}.{gap.face_a} | {gap.solid_b}.{gap.face_b}"
+    ax.annotate(text, xy=target / scale,
                 xytext=text_at / scale, textcoords="data", ha=ha, va="center", fontsize=7,
                 color=_style.GAP_INK, zorder=13,
                 arrowprops=dict(arrowstyle="-", color=_style.GAP_INK, lw=0.6,
                                 shrinkA=1, shrinkB=0))
+    return True
