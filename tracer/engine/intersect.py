@@ -10,9 +10,9 @@ expression over the padded plane array (plane-major: one row per plane).
 Broad phase for rays in the ambient: a slab test against each solid's axis-aligned box
 (scenes of more than ``GROUP_MIN_SOLIDS`` solids first test boxes around groups of about
 sqrt(S) nearby solids, then the member boxes of the groups a ray meets). Candidates are
-visited nearest box first: round 0 clips each ray against its nearest candidate, round 1
-against the remaining candidates whose box entry is not beyond the best hit so far, so a
-ray usually clips one solid whatever the number of solids behind it. The convex solid a
+visited nearest box first: round 0 clips each ray against its nearest candidate, the
+last round against the remaining candidates whose box entry is not beyond the best hit
+so far, so a ray usually clips one solid whatever the number of solids behind it. The convex solid a
 ray has just left is skipped when the ray provably cannot re-enter it (see
 :func:`_left_behind`). The result equals clipping every (ray, solid) pair, ties going to
 the higher solid index. Rays inside a convex solid only look for
@@ -224,9 +224,9 @@ class _Entry:
 
     Candidates (boxes, or groups of boxes) are visited nearest box first: round 0 tests
     the nearest candidate of every ray, round 1 every other candidate whose box entry
-    is not beyond the best hit so far. A solid further than the best hit cannot win, so
-    the result equals testing every candidate; ties (equal distance) go to the higher
-    solid index.
+    is not beyond the best hit so far (groups: two nearest-first rounds, then the rest).
+    A solid further than the best hit cannot win, so the result equals testing every
+    candidate; ties (equal distance) go to the higher solid index.
     """
 
     def __init__(self, cs, origin, direction, last_face):
