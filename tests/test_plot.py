@@ -65,8 +65,11 @@ def test_2d_of_a_2d_scene_labels_gap_and_faces(tmp_path):
     res = tracer.trace(sc, segments=100)
     fig = P.draw_2d(sc, res, face_labels=True)
     texts = [t.get_text() for t in fig.axes[0].texts]
-    assert "2.0 µm gap1.0" in texts  # thickness and medium name
-    assert {"hyp", "in", "out"} <= set(texts)
+    # thickness and medium name; with face labels the gap's note names its two faces
+    # (they are not written again inside the solids)
+    assert "2.0 µm gap1.0\na.hyp | b.hyp" in texts
+    assert {"in", "out"} <= set(texts) and "hyp" not in texts
+    assert "2.0 µm gap1.0" in [t.get_text() for t in P.draw_2d(sc, res).axes[0].texts]
     img = _png(fig, tmp_path)
     assert _ray_pixels(img) > 150
 
