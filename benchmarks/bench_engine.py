@@ -8,7 +8,7 @@ How to run: ``python benchmarks/bench_engine.py [--quick] [--rays N] [--memory N
     python benchmarks/bench_engine.py --memory 10000000   # peak memory of a batched 10^7-ray trace
 
 Prints from one run: ray-face events per second end to end (per core: CPU time of the
-process, and wall time); the rate of trimesh's embree intersector (``intersects_first``)
+process, and wall time; the process is pinned to one CPU unless ``--no-pin``); the rate of trimesh's embree intersector (``intersects_first``)
 on the same geometry triangulated, and the ratio of the two; the time growth for 10x rays
 and for 10x solids (12 -> 120, the same stack made longer) next to the growth of the
 event count; the peak resident memory. ``--memory N`` traces N source rays in the default
@@ -24,12 +24,30 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 import resource
 import sys
 import time
 from pathlib import Path
 
-import numpy as np
+
+def _pin_to_one_cpu():
+    """Pin this process to the CPU it runs on, before any library starts threads."""
+    if not hasattr(os, "sched_setaffinity"):
+        return None
+    try:
+        with open("/proc/self/stat") as fh:
+            cpu = int(fh.read().rsplit(")", 1)[1].split()[36])  # field 39: last CPU
+    except (OSError, ValueError, IndexError):
+        cpu = max(os.sched_getaffinity(0))
+    os.sched_setaffinity(0, {cpu})
+    return cpu
+
+
+# per-core figures: the engine and embree's worker threads share one CPU
+_PINNED = _pin_to_one_cpu() if __name__ == "__main__" and "--no-pin" not in sys.argv else None
+
+import numpy as np  # noqa: E402  (after pinning: BLAS threads inherit the CPU)
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
@@ -199,7 +217,11 @@ def main(argv=None):
     ap.add_argument("--rays", type=int, default=None)
     ap.add_argument("--memory", type=int, default=None, metavar="N",
                     help="only trace N source rays (batched) and report the peak memory")
+    ap.add_argument("--no-pin", action="store_true",
+                    help="do not pin the process (and embree's threads) to one CPU")
     args = ap.parse_args(argv)
+    if _PINNED is not None:
+        print(f"pinned to CPU {_PINNED} (per-core figures; --no-pin to let embree use every core)")
     if args.memory:
         memory_run(args.memory)
         return
