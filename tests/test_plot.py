@@ -63,7 +63,8 @@ def test_2d_of_a_2d_scene_labels_gap_and_faces(tmp_path):
                detectors=[plane("cam", (0.02, 0, 0), (-1, 0, 0))])
     sc = dataclasses.replace(sc, dimension=2)
     res = tracer.trace(sc, segments=100)
-    fig = P.draw_2d(sc, res, face_labels=True)
+    # drawn large enough for every face name to fit without overlapping another label
+    fig = P.draw_2d(sc, res, face_labels=True, figsize=(14, 11))
     texts = [t.get_text() for t in fig.axes[0].texts]
     # thickness and medium name; with face labels the gap's note names its two faces
     # (they are not written again inside the solids)

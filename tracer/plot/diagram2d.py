@@ -356,6 +356,7 @@ class _LabelPlacer:
         else:
             self.a = self.b = np.zeros((0, 2))
         self.ta, self.tb = [], []
+        self.boxes = []  # shapely rectangles of the labels placed, for the overlap test
         for c in taken:  # solid names: short horizontal bars
             c = np.asarray(c, float)
             self.ta.append(c - [12 * self.pt, 0])
@@ -385,11 +386,21 @@ class _LabelPlacer:
         best = cand[int(np.argmax(score))]
         self.ta.append(best - [half, 0])
         self.tb.append(best + [half, 0])
+        self.boxes.append(self._box(best, np.array([1.0, 0.0]), half, self.SOLID_HALF_HEIGHT))
         return best
 
-    #: Closest two label centre lines may come [pt]: a label is about 8 pt tall with its
-    #: white box, so nearer than this the boxes overlap.
-    CLEARANCE = 9.0
+    #: Half heights of a face label (6 pt type) and a solid label (7.5 pt) with their white
+    #: boxes [pt]; labels are kept from overlapping as rectangles of these sizes.
+    FACE_HALF_HEIGHT = 4.5
+    SOLID_HALF_HEIGHT = 5.5
+
+    def _box(self, centre, u, half, half_height):
+        from shapely.geometry import Polygon as SPoly
+
+        v = np.array([-u[1], u[0]]) * half_height * self.pt
+        a = u * half
+        c = np.asarray(centre, float)
+        return SPoly([c - a - v, c + a - v, c + a + v, c - a + v])
 
     def place(self, p0, p1, n2, text):
         L = float(np.linalg.norm(p1 - p0))
@@ -407,9 +418,11 @@ class _LabelPlacer:
         if self.ta:
             d_lab = _seg_distance(samples, np.array(self.ta),
                                   np.array(self.tb)).reshape(len(along), k).min(axis=0)
-            # labels never overlap: a spot too close to one already placed is not a spot
-            fits &= d_lab >= self.CLEARANCE * self.pt
             score = np.minimum(score, d_lab - 2 * self.pt)
+        # labels never overlap: a spot whose box meets a label already placed is not a spot
+        for i in np.nonzero(fits)[0]:
+            box = self._box(cand[i], u, half, self.FACE_HALF_HEIGHT).buffer(-0.5 * self.pt)
+            fits[i] = not any(box.intersects(b) for b in self.boxes)  # touching is fine
         score = score - 0.3 * self.pt * np.abs(f - 0.5) * 10
         if not fits.any():
             return None  # the edge is too short for its name, or crowded: leave it unlabelled
@@ -417,6 +430,7 @@ class _LabelPlacer:
         best = cand[int(np.argmax(score))]
         self.ta.append(best - half * u)
         self.tb.append(best + half * u)
+        self.boxes.append(self._box(best, u, half, self.FACE_HALF_HEIGHT))
         return best, _upright(np.degrees(np.arctan2(u[1], u[0])))
 
 
