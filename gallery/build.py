@@ -101,7 +101,7 @@ def _md_table(result, detector) -> str:
         return f"_No power reached `{detector}`._\n"
     out = [f"Paths on `{detector}` ({t.design_rule} rule for the design path), "
            f"strongest {min(GHOST_ROWS, len(t.rows))} of {len(t.rows)}:\n",
-           "| # | path | power [W] | of source | vs design | reflections |",
+           "| # | path | power [W] | of source | to design | reflections |",
            "|---:|---|---:|---:|---:|---:|"]
     for r in t.rows[:GHOST_ROWS]:
         label = r.label.replace("|", "\\|") + (" **(design)**" if r.design else "")
