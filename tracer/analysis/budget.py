@@ -127,10 +127,11 @@ class PowerBudget:
         text += (f"\n  closure residual {fmt_sci(self.residual_w)} W "
                  f"({fmt_sci(self.relative_residual)} of the source power)")
         for name, g in self.tunnelled.items():
+            a_, b_ = (str(f).split(".")[0] for f in g["faces"][:2])
             text += (f"\n  tunnelled through gap {name} ({g['faces'][0]} | {g['faces'][1]}): "
                      f"{fmt_sci(g['tunnelled_w'])} W = {fmt_fraction(g['leakage'])} of the source "
-                     f"(A to B {fmt_sci(g['a_to_b_w'])} W, B to A {fmt_sci(g['b_to_a_w'])} W; "
-                     "not an account)")
+                     f"({a_} to {b_} {fmt_sci(g['a_to_b_w'])} W, {b_} to {a_} "
+                     f"{fmt_sci(g['b_to_a_w'])} W; already inside the accounts above)")
         if self.far_field:
             many = len(self.far_field) > 1
             text += (f"\n  far-field detector{'s' if many else ''} {', '.join(self.far_field)} "
