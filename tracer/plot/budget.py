@@ -141,7 +141,12 @@ def budget_figure(budget, *, ax=None, floor: float = 1e-12, title: str | bool = 
 
 
 def _fmt_frac(f: float) -> str:
-    if f >= 0.01:
+    """Share of the source power for a bar label: % down to 0.1 %, then ppm.
+
+    >>> _fmt_frac(0.526), _fmt_frac(0.00219), _fmt_frac(1.36e-4), _fmt_frac(2e-9)
+    ('52.6 %', '0.219 %', '136 ppm', '2.00e-09')
+    """
+    if f >= 1e-3:
         return f"{100 * f:.3g} %"
     if f >= 1e-6:
         return f"{f * 1e6:.3g} ppm"
