@@ -160,7 +160,8 @@ def _table(result) -> str:
 
     cols = [k for k in result.columns if k.startswith(("fraction.", "T.", "leakage.", "pass."))
             or k == "deviation_deg"]
-    header = ["#"] + [a.label for a in result.axes] + cols
+    header = ["#"] + [a.label for a in result.axes] + [
+        "deviation [deg]" if k == "deviation_deg" else k for k in cols]
     rows = []
     for i, (p, r) in enumerate(zip(result.points, result.rows)):
         cells = [str(i)] + [_axis_cell(a, p[a.path]) for a in result.axes]
@@ -208,6 +209,9 @@ def run(args) -> int:
     if not args.quiet:
         print(f"{args.scene}: {len(result.points)} points")
         print(_table(result))
+        print("columns: fraction.DET = power on detector DET / source power; T.s.DET, T.p.DET = "
+              "the same for an s or p polarised source; leakage.GAP = power tunnelled through "
+              "GAP / source power; pass.REQ = requirement REQ met (files hold more columns)")
         for e in result.errors:
             if e:
                 c.stderr(f"skipped {e}")
