@@ -90,7 +90,7 @@ def bench_trace(rays: int, workers: int, start_method: str):
     return dt, merged, _peaks(out), sum(totals.values())
 
 
-def bench_sweep(points: int, workers: int, start_method: str):
+def bench_sweep(points: int, workers: int, start_method: str, rays: int = 200):
     from tracer.sweep import RunOptions, get_backend, range_axis
     from tracer.sweep.axes import grid
     from tracer.sweep.runner import document_of, make_task
@@ -102,7 +102,7 @@ def bench_sweep(points: int, workers: int, start_method: str):
     doc["requirements"] = {k: v for k, v in doc.get("requirements", {}).items()
                            if "gap" not in v}
     axis = range_axis("solids.upper.position[0]", 20.0015, 20.006, points)
-    opts = RunOptions(settings={"rays": 5, "progress": False})
+    opts = RunOptions(settings={"rays": rays, "progress": False})
     tasks = [make_task(doc, path, base, i, p, opts) for i, p in enumerate(grid([axis]))]
     backend = get_backend(workers, start_method=start_method)
     try:
@@ -130,6 +130,9 @@ def main(argv=None) -> int:
     ap.add_argument("--quick", action="store_true", help="10^5 rays and 40 points")
     ap.add_argument("--rays", type=int, help="rays of the large trace (default 10^7)")
     ap.add_argument("--points", type=int, help="sweep points (default 200)")
+    ap.add_argument("--sweep-rays", type=int, default=200,
+                    help="geometric rays per line at each sweep point (default 200, a design sweep's "
+                         "usual count; a handful makes the pool's per-task cost dominate)")
     ap.add_argument("--start-method", default="spawn", choices=("spawn", "fork", "forkserver"))
     ap.add_argument("--skip-trace", action="store_true")
     ap.add_argument("--skip-sweep", action="store_true")
@@ -145,8 +148,8 @@ def main(argv=None) -> int:
         print(f"trace of {n} rays, {m1['events']} events: sums agree: {same}")
         _report("trace", t1, t2, p1, p2)
     if not a.skip_sweep:
-        t1, r1, p1 = bench_sweep(points, 1, a.start_method)
-        t2, r2, p2 = bench_sweep(points, 2, a.start_method)
+        t1, r1, p1 = bench_sweep(points, 1, a.start_method, a.sweep_rays)
+        t2, r2, p2 = bench_sweep(points, 2, a.start_method, a.sweep_rays)
         print(f"sweep of {points} points: tables identical: {r1 == r2}")
         _report("sweep", t1, t2, p1, p2)
     return 0
