@@ -4,13 +4,13 @@
    demo TIR prism pair, split into ray ranges (``tracer.sweep.trace_split``); checks
    that the 2-worker sum equals the 1-worker trace.
 2. A sweep of ``--points`` points (default 200) of the pair's upper-prism position
-   (the gap thickness) with a few rays each.
+   (the gap thickness) with `--sweep-rays` rays per line at each point (default 200).
 
 Prints wall time (worker processes are started before the clock runs), the speed-up of 2 workers over 1 (target >= 1.8 on 2 free cores)
 and the peak resident memory of every worker process. On a machine shared with other
 work the speed-up is lower than the cores could give.
 
-Run: ``python benchmarks/bench_scale.py [--quick] [--rays N] [--points N] [--start-method M]``.
+Run: ``python benchmarks/bench_scale.py [--quick] [--rays N] [--points N] [--sweep-rays N] [--start-method M]``.
 """
 
 from __future__ import annotations
