@@ -246,8 +246,12 @@ class ToleranceResult:
             lines.append(f"yield: {100 * self.yield_fraction():.1f} % of trials pass every requirement")
             for n in self.requirements:
                 lines.append(f"  {n}: {100 * self.yield_fraction(n):.1f} %")
-            for w in self.worst(3):
-                lines.append(f"  worst trial {w['trial']}: margin {w['margin']:.3g}")
+            worst = self.worst(3)
+            if worst:
+                lines.append("  worst trials (margin: distance of the tightest requirement from its "
+                             "limit, as a fraction of the limit; negative fails):")
+            for w in worst:
+                lines.append(f"    trial {w['trial']}: margin {100 * w['margin']:+.1f} % of the limit")
         for c, s in self.to_dict()["statistics"].items():
             lines.append(f"{c}: nominal {_fmt(s['nominal'])}, mean {_fmt(s['mean'])}, "
                          f"std {_fmt(s['std'])}, 5-95 % [{_fmt(s['p05'])}, {_fmt(s['p95'])}]")
