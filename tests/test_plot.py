@@ -39,6 +39,18 @@ def test_2d_diagram_shows_the_ray(tmp_path):
     assert with_rays > 150  # a line across the drawing, a few pixels wide
 
 
+def test_wavelengths_sharing_one_path_all_stay_visible(tmp_path):
+    # three lines through a plate at normal incidence follow one geometric path; each colour
+    # must still show (interleaved dashes), not only the last one drawn
+    wls = (460e-9, 550e-9, 620e-9)
+    sc = plate_scene(rays=1)
+    sc = dataclasses.replace(sc, sources={"src": beam(wavelengths=wls)})
+    res = tracer.trace(sc, segments=100)
+    img = _png(P.draw_2d(sc, res, plane="xz", legend=False), tmp_path, "w")
+    counts = [_ray_pixels(img, C.ray_rgb(w)) for w in wls]
+    assert min(counts) > 40, counts
+
+
 def test_2d_diagram_cut_off_hides_weak_segments(tmp_path):
     sc, res = _one_ray()
     rays = P.diagram2d.prepare_rays(res, min_power=1e-6)

@@ -23,6 +23,10 @@ HIGHLIGHT_COLOR = "#222222"
 HIGHLIGHT_HALO = 4.5  # [pt]
 
 
+#: Dash length [pt] of each wavelength's share of a path drawn in several wavelengths.
+RAY_DASH = 4.0
+
+
 def format_gap(thickness: float, medium: str) -> str:
     """Gap annotation text: ``"2.0 µm air"``, ``"contact, NOA61"``.
 
@@ -98,8 +102,20 @@ def _add_rays(ax, rays: RaySet, plane: Plane, scale: float, *, zorder=5):
     a = plane.to2d(rays.start) / scale
     b = plane.to2d(rays.end) / scale
     lines = np.stack([a, b], axis=1)
-    ax.add_collection(LineCollection(lines, colors=rays.rgba, linewidths=rays.width,
-                                     capstyle="round", zorder=zorder))
+    waves = np.unique(rays.wavelength)
+    if len(waves) == 1:
+        ax.add_collection(LineCollection(lines, colors=rays.rgba, linewidths=rays.width,
+                                         capstyle="round", zorder=zorder))
+    else:
+        # Several wavelengths often share one geometric path (flat faces, no dispersion worth
+        # seeing): each wavelength is drawn as interleaved dashes, so every colour stays
+        # visible where the paths coincide instead of the last one drawn hiding the others.
+        k = len(waves)
+        for i, wl in enumerate(waves):
+            sel = rays.wavelength == wl
+            ax.add_collection(LineCollection(
+                lines[sel], colors=rays.rgba[sel], linewidths=rays.width[sel], capstyle="butt",
+                linestyles=[(i * RAY_DASH, (RAY_DASH, (k - 1) * RAY_DASH))], zorder=zorder))
     if rays.highlight.any():
         hl = lines[rays.highlight]
         rgb = ray_rgb(rays.wavelength[rays.highlight])
