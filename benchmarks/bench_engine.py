@@ -53,49 +53,18 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from tracer.engine import trace  # noqa: E402
 from tracer.engine.compile import compile_scene  # noqa: E402
+from tracer.geometry.solid import ConvexSolid  # noqa: E402
+from tracer.geometry.transforms import rotation_matrix  # noqa: E402
 from tracer.materials.models import ConstantIndex  # noqa: E402
 from tracer.scene.model import (DetectorSpec, FaceTreatment, GapSpec, Polarization,  # noqa: E402
                                 Scene, SolidSpec, SourceSpec, Spectrum, TraceSettings)
-
-
-class _Convex:
-    """Planes-only convex solid (keeps the benchmark independent of geometry helpers)."""
-
-    is_convex = True
-
-    def __init__(self, normals, offsets, names):
-        n = np.asarray(normals, float)
-        nn = np.linalg.norm(n, axis=1)
-        self.face_normals = n / nn[:, None]
-        self.face_offsets = np.asarray(offsets, float) / nn
-        self.face_names = tuple(names)
-        v = []
-        F = len(n)
-        for i in range(F):
-            for j in range(i + 1, F):
-                for k in range(j + 1, F):
-                    A = self.face_normals[[i, j, k]]
-                    if abs(np.linalg.det(A)) < 1e-12:
-                        continue
-                    x = np.linalg.solve(A, self.face_offsets[[i, j, k]])
-                    if np.all(self.face_normals @ x <= self.face_offsets + 1e-12):
-                        v.append(x)
-        self.vertices = np.array(v)
-        self.bounds = np.array([self.vertices.min(0), self.vertices.max(0)])
-
-
-def _rot(ax, ay):
-    cx, sx, cy, sy = math.cos(ax), math.sin(ax), math.cos(ay), math.sin(ay)
-    Rx = np.array([[1, 0, 0], [0, cx, -sx], [0, sx, cx]])
-    Ry = np.array([[cy, 0, sy], [0, 1, 0], [-sy, 0, cy]])
-    return Ry @ Rx
 
 
 def _box(half, R, centre):
     n0 = np.vstack([np.eye(3), -np.eye(3)])
     n = n0 @ R.T
     d = np.concatenate([half, half]) + n @ centre
-    return _Convex(n, d, ["px", "py", "pz", "mx", "my", "mz"])
+    return ConvexSolid(n, d, ["px", "py", "pz", "mx", "my", "mz"])
 
 
 def _wedge_prism(size, R, centre):
@@ -119,7 +88,7 @@ def _wedge_prism(size, R, centre):
     n, d = n * sign[:, None], d * sign
     n = n @ R.T
     d = d + n @ centre
-    return _Convex(n, d, ["f0", "f1", "f2", "top", "bottom"])
+    return ConvexSolid(n, d, ["f0", "f1", "f2", "top", "bottom"])
 
 
 def bench_scene(n_solids=12, rays=10**6, seed=3):
@@ -131,7 +100,7 @@ def bench_scene(n_solids=12, rays=10**6, seed=3):
     z = 0.0
     ar = FaceTreatment(kind="ideal", reflectance=0.001)  # broadband AR on every face
     for i in range(n_solids):
-        R = _rot(rng.uniform(-0.15, 0.15), rng.uniform(-0.15, 0.15))
+        R = rotation_matrix(rx=rng.uniform(-0.15, 0.15), ry=rng.uniform(-0.15, 0.15))
         kind = i % 3
         if kind == 0:
             g = _box(np.array([0.02, 0.02, 0.004]), R, np.array([0, 0, z + 0.005]))
@@ -140,7 +109,7 @@ def bench_scene(n_solids=12, rays=10**6, seed=3):
             g = _box(np.array([0.015, 0.015, 0.015]), R, np.array([0, 0, z + 0.017]))
             z += 0.04
         else:
-            g = _wedge_prism(0.03, R @ _rot(math.pi / 2, 0), np.array([0, 0, z + 0.015]))
+            g = _wedge_prism(0.03, R @ rotation_matrix(rx=math.pi / 2), np.array([0, 0, z + 0.015]))
             z += 0.04
         faces = {f: ar for f in g.face_names}
         solids[f"s{i}"] = SolidSpec(name=f"s{i}", material=glass, material_name="crown",

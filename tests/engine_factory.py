@@ -4,10 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-try:  # the project's geometry when it imports; a minimal stand-in otherwise
-    from tracer.geometry.solid import ConvexSolid
-except ImportError:  # pragma: no cover - while the geometry package is being written
-    ConvexSolid = None
+from tracer.geometry.solid import ConvexSolid
 from tracer.materials.models import ConstantIndex
 from tracer.scene.model import (
     DetectorSpec,
@@ -24,36 +21,8 @@ from tracer.scene.model import (
 AIR = ConstantIndex(1.0, name="air")
 
 
-class _Convex:
-    """Minimal convex solid (planes only) with the geometry contract the engine uses."""
-
-    is_convex = True
-
-    def __init__(self, normals, offsets, names):
-        n = np.asarray(normals, float)
-        nn = np.linalg.norm(n, axis=1)
-        self.face_normals = n / nn[:, None]
-        self.face_offsets = np.asarray(offsets, float) / nn
-        self.face_names = tuple(names)
-        verts = []
-        F = len(n)
-        for i in range(F):
-            for j in range(i + 1, F):
-                for k in range(j + 1, F):
-                    A = self.face_normals[[i, j, k]]
-                    if abs(np.linalg.det(A)) < 1e-12:
-                        continue
-                    x = np.linalg.solve(A, self.face_offsets[[i, j, k]])
-                    if np.all(self.face_normals @ x <= self.face_offsets + 1e-12):
-                        verts.append(x)
-        v = np.array(verts)
-        self.bounds = np.array([v.min(axis=0), v.max(axis=0)])
-
-
 def _solid(normals, offsets, names):
-    if ConvexSolid is not None:
-        return ConvexSolid(normals, offsets, names)
-    return _Convex(normals, offsets, names)
+    return ConvexSolid(normals, offsets, names)
 
 
 def box(lo, hi, names=("px", "py", "pz", "mx", "my", "mz")):
