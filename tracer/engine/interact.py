@@ -46,6 +46,8 @@ import numpy as np
 from .. import fresnel
 from .. import polarization as pol
 from ..tolerances import NORMAL_INCIDENCE_SIN
+from . import interface_kernel as kernels
+from . import jit
 from .compile import COATED, MIRROR, UNCOATED, CompiledScene, on_partner_face
 from .paths import REFLECT, TIR, TRANSMIT, TUNNEL
 
@@ -136,6 +138,11 @@ class Split:
         d = self.r_dir if child == "r" else self.t_dir
         amp = self.r_amp if child == "r" else self.t_amp
         n = len(self.s)
+        if jit.compiled():
+            idx = np.arange(n)[index] if isinstance(index, slice) else np.asarray(index)
+            if idx.dtype == bool:
+                idx = np.nonzero(idx)[0]
+            return kernels.child_fields(self.s, d, self.a_s, self.a_p, amp[0], amp[1], idx)
         if isinstance(index, slice) and index == slice(None):
             index = None
         elif (isinstance(index, np.ndarray) and index.dtype.kind in "iu" and len(index) == n
@@ -280,7 +287,7 @@ def _coating_of(treatment):
 
 
 def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
-          wavelength, wl_index, ntab, coherency, coherence_length) -> Split:
+          wavelength, wl_index, ntab, coherency, coherence_length, root=None) -> Split:
     """Children of rays meeting solid faces (see module docstring).
 
     Parameters
@@ -295,8 +302,10 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         Column of ``ntab``.
     ntab : (media, W) complex
         Index table (:meth:`CompiledScene.index_table`).
-    coherency : (N, 2, 2) complex
-        Source coherency of each ray.
+    coherency : (N, 2, 2) or (M, 2, 2) complex
+        Source coherency of each ray, or (with ``root``) a table of them.
+    root : (N,) int, optional
+        Row of ``coherency`` for each ray (default: row ``i`` for ray ``i``).
     coherence_length : (N,) float [m]
         Source coherence length (decides coherent vs incoherent gaps in ``auto``).
     """
@@ -341,11 +350,17 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
     else:
         n2 = np.where(inside, n_amb, solid_med)
         t_medium = np.where(inside, -1, solid)
-    sign = np.where(inside, 1.0, -1.0)
-    nhat = np.empty_like(nf)
-    for a in range(3):
-        np.multiply(nf[:, a], sign, out=nhat[:, a])
-    cos1 = np.clip(_dot(k, nhat), 0.0, 1.0)
+    fast = jit.compiled()
+    if fast:
+        nhat, cos1, s_vec, normal_inc = kernels.frame(k, cs.face_normal, face, inside)
+        if normal_inc.any():
+            s_vec[normal_inc] = pol.sp_basis(k[normal_inc], nhat[normal_inc])[0]
+    else:
+        sign = np.where(inside, 1.0, -1.0)
+        nhat = np.empty_like(nf)
+        for a in range(3):
+            np.multiply(nf[:, a], sign, out=nhat[:, a])
+        cos1 = np.clip(_dot(k, nhat), 0.0, 1.0)
 
     code = cs.face_code[face]
     co = _Coef(n)
@@ -408,25 +423,35 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
                               cos_angle=cos1[sel], coherence_length=coherence_length[sel]))
     co.finish()
 
-    # directions ---------------------------------------------------------------
-    r_dir = reflect_direction(k, nhat, cos1)
     ratio = n1.real / n2.real
-    t_dir, prop = refract_direction(k, nhat, cos1, ratio)
-    t_exists = prop & ((co.Ts > 0) | (co.Tp > 0))
+    if fast:
+        if root is None:
+            root = np.arange(n)
+        w = kernels.waves(k, nhat, cos1, ratio, s_vec, field, coherency, root, co.Rs, co.Rp,
+                          co.Ts, co.Tp, power)
+        r_dir, t_dir, prop, t_exists = w["r_dir"], w["t_dir"], w["prop"], w["t_exists"]
+        s, a_s, a_p = s_vec, w["a_s"], w["a_p"]
+        r_power, t_power, absorbed = w["r_power"], w["t_power"], w["absorbed"]
+    else:
+        if root is not None:
+            coherency = coherency[root]
+        # directions
+        r_dir = reflect_direction(k, nhat, cos1)
+        t_dir, prop = refract_direction(k, nhat, cos1, ratio)
+        t_exists = prop & ((co.Ts > 0) | (co.Tp > 0))
+        # fields and powers
+        s, p_in = sp_basis(k, nhat)
+        a_s = _project(s, field)
+        a_p = _project(p_in, field)
+        Ps = _jpower(a_s, coherency)
+        Pp = _jpower(a_p, coherency)
+        r_power = co.Rs * Ps + co.Rp * Pp
+        t_power = co.Ts * Ps + co.Tp * Pp
+        t_power[~t_exists] = 0.0
+        absorbed = power - r_power - t_power
     tir = ~prop | beyond_gap
     r_kind = np.where(tir, TIR, REFLECT)
     t_kind = np.where(beyond_gap, TUNNEL, TRANSMIT)
-
-    # fields and powers ----------------------------------------------------------
-    s, p_in = sp_basis(k, nhat)
-    a_s = _project(s, field)
-    a_p = _project(p_in, field)
-    Ps = _jpower(a_s, coherency)
-    Pp = _jpower(a_p, coherency)
-    r_power = co.Rs * Ps + co.Rp * Pp
-    t_power = co.Ts * Ps + co.Tp * Pp
-    t_power[~t_exists] = 0.0
-    absorbed = power - r_power - t_power
     return Split(
         r_dir=r_dir, r_power=r_power, r_kind=r_kind,
         t_exists=t_exists, t_dir=t_dir, t_power=t_power, t_kind=t_kind,
@@ -485,8 +510,19 @@ def _project(v, field):
 def _jpower(a, J):
     """``Re(a J a^H)`` for (N, 2) rows ``a`` and (N, 2, 2) Hermitian ``J`` [W]."""
     a0, a1 = a[:, 0], a[:, 1]
+    x0, x1 = _cmul(a0.real, a0.imag, J[:, 0, 1].real, J[:, 0, 1].imag)  # a0 J01
+    cross = x0 * a1.real + x1 * a1.imag  # Re(a0 J01 conj(a1))
     return (J[:, 0, 0].real * (a0.real**2 + a0.imag**2) + J[:, 1, 1].real * (a1.real**2 + a1.imag**2)
-            + 2.0 * (a0 * J[:, 0, 1] * a1.conj()).real)
+            + 2.0 * cross)
+
+
+def _cmul(ar, ai, br, bi):
+    """Real and imaginary parts of ``(ar + i ai)(br + i bi)``, rounded term by term.
+
+    numpy's complex multiply may fuse the products (FMA); written out, the reference
+    rounds exactly as the compiled kernels do (:mod:`tracer.engine.interface_kernel`).
+    """
+    return ar * br - ai * bi, ar * bi + ai * br
 
 
 def rebuild(s, p_out, a_s, a_p, amp_s, amp_p):
@@ -495,8 +531,13 @@ def rebuild(s, p_out, a_s, a_p, amp_s, amp_p):
     The same construction as :func:`tracer.polarization.apply_interface`, written out
     for speed (the engine tests check that the two agree).
     """
-    cs = (amp_s[:, None] * a_s).view(float)  # (N, 4)
-    cp = (amp_p[:, None] * a_p).view(float)
+    cs = np.empty((len(a_s), 4))  # re, im of both columns
+    cp = np.empty((len(a_s), 4))
+    for j in range(2):
+        cs[:, 2 * j], cs[:, 2 * j + 1] = _cmul(amp_s.real, amp_s.imag, a_s[:, j].real,
+                                               a_s[:, j].imag)
+        cp[:, 2 * j], cp[:, 2 * j + 1] = _cmul(amp_p.real, amp_p.imag, a_p[:, j].real,
+                                               a_p[:, j].imag)
     out = np.empty((len(cs), 3, 4))
     for i in range(3):  # one long loop per component (no short broadcast inner loops)
         si, pi = s[:, i], p_out[:, i]

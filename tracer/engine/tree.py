@@ -354,7 +354,8 @@ class _Tracer:
         sp = split(cs, direction=b.direction[ii], position=pos[ii], field=b.field[ii],
                    power=b.power[ii], medium=b.medium[ii], face=fi,
                    wavelength=b.wavelength[ii], wl_index=wl_i, ntab=self.ntab,
-                   coherency=table.coherency[b.root[ii]], coherence_length=self.coh_len[wl_i])
+                   coherency=table.coherency, root=b.root[ii],
+                   coherence_length=self.coh_len[wl_i])
         src_i = src[ii]
         parent_p = b.power[ii]
         if self.mc:
