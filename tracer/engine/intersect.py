@@ -29,6 +29,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..tolerances import PLANE_EPS, RAY_OFFSET
+from . import hit_kernel, jit
 from .compile import CompiledScene
 
 __all__ = ["nearest_hit", "box_candidates"]
@@ -341,6 +342,10 @@ class _Entry:
 def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
     """Distance to and global id of the nearest face or detector of each ray.
 
+    Uses the compiled kernel (:mod:`tracer.engine.hit_kernel`) when
+    :func:`tracer.engine.jit.compiled` says so, else the numpy reference; both give the
+    same faces and distances.
+
     Parameters
     ----------
     cs : CompiledScene
@@ -357,6 +362,69 @@ def nearest_hit(cs: CompiledScene, origin, direction, medium, last_face):
     face : (N,) int
         Global face id (detectors after the solid faces), -1 where nothing is hit.
     """
+    if jit.compiled():
+        return _nearest_hit_compiled(cs, origin, direction, medium, last_face)
+    return _nearest_hit_numpy(cs, origin, direction, medium, last_face)
+
+
+def _nearest_hit_compiled(cs, origin, direction, medium, last_face):
+    """:func:`nearest_hit` through the kernel; non-convex solids through :func:`_mesh`."""
+    origin = np.ascontiguousarray(origin, dtype=np.float64)
+    direction = np.ascontiguousarray(direction, dtype=np.float64)
+    medium = np.ascontiguousarray(medium, dtype=np.int64)
+    last_face = np.ascontiguousarray(last_face, dtype=np.int64)
+    n = len(origin)
+    t = np.empty(n)
+    face = np.empty(n, dtype=np.int64)
+    if n == 0:
+        return t, face
+    ks = hit_kernel.kernel_scene(cs)
+    solid = np.empty(n, dtype=np.int64)
+    hit_kernel.solid_hits(origin, direction, medium, last_face, ks.planes, ks.pface,
+                          ks.nplanes, ks.convex, ks.gbox, ks.mbox, ks.gmem, ks.face_solid,
+                          ks.face_local, t, face, solid)
+    if ks.meshes:
+        _merge_meshes(cs, ks, origin, direction, medium, t, face, solid)
+    if len(cs.detector_names):
+        hit_kernel.detector_hits(origin, direction, medium, ks.det_pos, ks.det_normal, ks.det_off,
+                                 ks.det_x, ks.det_y, ks.det_half, ks.det_two, ks.n_faces, t,
+                                 face)
+    return t, face
+
+
+def _merge_meshes(cs, ks, origin, direction, medium, t, face, solid):
+    """Hits of non-convex solids (numpy path) merged into the kernel's convex hits in place.
+
+    Rays inside a mesh solid get its exit; rays in the ambient whose path meets a mesh's
+    box before their best convex hit try that mesh, ties going to the higher solid index.
+    """
+    for sm in ks.meshes:
+        jj = np.nonzero(medium == sm)[0]
+        if len(jj):
+            t[jj], face[jj] = _mesh(cs, sm, origin[jj], direction[jj], True)
+    oi = np.nonzero(medium < 0)[0]
+    if not len(oi):
+        return
+    o, d = origin[oi], direction[oi]
+    inv = _inverse(d)
+    for sm in ks.meshes:
+        lo, hi = ks.box[sm, :3], ks.box[sm, 3:]
+        tn = _slab(tuple(lo[a:a + 1, None] for a in range(3)),
+                   tuple(hi[a:a + 1, None] for a in range(3)), o, inv)[0]
+        sel = np.nonzero(tn <= t[oi])[0]
+        if not len(sel):
+            continue
+        tm, fm = _mesh(cs, sm, o[sel], d[sel], False)
+        r = oi[sel]
+        better = (tm < np.inf) & ((tm < t[r]) | ((tm == t[r]) & (sm > solid[r])))
+        rb = r[better]
+        t[rb] = tm[better]
+        face[rb] = fm[better]
+        solid[rb] = sm
+
+
+def _nearest_hit_numpy(cs, origin, direction, medium, last_face):
+    """:func:`nearest_hit` in numpy (the reference of the compiled kernel)."""
     n = len(origin)
     t = np.full(n, np.inf)
     face = np.full(n, -1, dtype=np.int64)
