@@ -1,8 +1,10 @@
 """The compiled interface kernels equal the numpy reference of :mod:`tracer.engine.interact`.
 
 The reference itself is tested against published formulas elsewhere (Fresnel, Snell,
-plate ghost series, tmm); here the two implementations must agree bit for bit on the
-same inputs, and whole traces of every demo scene must give the same results.
+plate ghost series, tmm); here the two implementations must agree to round-off on the
+same inputs (the geometry and field kernels bit for bit; complex divisions and square
+roots of the coefficient kernel may differ by an ulp), and whole traces of every demo
+scene must give the same results.
 """
 
 from pathlib import Path
@@ -60,22 +62,31 @@ def test_split_kernel_equals_numpy_reference(path):
         got_f = {c: got.field(c, np.arange(0, 400, 3)) for c in "rt"}
     for name in _SPLIT_FIELDS:
         a, b = getattr(ref, name), getattr(got, name)
-        assert np.array_equal(a, b), name
+        if a.dtype.kind in "biu":
+            assert np.array_equal(a, b), name
+        else:  # complex divisions and square roots may round differently (1 ulp)
+            np.testing.assert_allclose(b, a, rtol=1e-12, atol=1e-14, err_msg=name)
     for c in "rt":
-        assert np.array_equal(ref_f[c], got_f[c]), c
+        np.testing.assert_allclose(got_f[c], ref_f[c], rtol=1e-12, atol=1e-14, err_msg=c)
 
 
-def _summary_close(a, b, path=""):
+def _summary_close(a, b, watts, path=""):
+    """Equal summaries up to round-off: ``watts`` is the absolute tolerance of powers
+    (round-off residues such as the absorbed power of lossless faces); paths of equal
+    power may be listed in either order, so lists of paths are compared by signature."""
     if isinstance(a, dict):
         assert a.keys() == b.keys(), path
         for k in a:
-            _summary_close(a[k], b[k], f"{path}.{k}")
+            _summary_close(a[k], b[k], watts, f"{path}.{k}")
     elif isinstance(a, (list, tuple)):
         assert len(a) == len(b), path
+        if a and all(isinstance(x, dict) and "signature" in x for x in list(a) + list(b)):
+            a = sorted(a, key=lambda x: x["signature"])
+            b = sorted(b, key=lambda x: x["signature"])
         for i, (x, y) in enumerate(zip(a, b)):
-            _summary_close(x, y, f"{path}[{i}]")
+            _summary_close(x, y, watts, f"{path}[{i}]")
     elif isinstance(a, float):
-        assert a == pytest.approx(b, rel=1e-12, abs=1e-300), path
+        assert a == pytest.approx(b, rel=1e-9, abs=watts), path
     else:
         assert a == b, path
 
@@ -89,7 +100,7 @@ def test_trace_with_kernels_equals_numpy_reference(path):
         got = trace(scene, rays=60, progress=False)
     assert got.events == ref.events
     assert len(got.tree) == len(ref.tree)
-    _summary_close(ref.summary(), got.summary())
+    _summary_close(ref.summary(), got.summary(), 1e-12 * ref.source_power_w)
     for name in ref.compiled.detector_names:  # plane detectors (far fields are maps)
         h0, h1 = ref.hits(name), got.hits(name)
         assert np.allclose(h0["power"], h1["power"], rtol=1e-12, atol=0)

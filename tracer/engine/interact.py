@@ -46,6 +46,7 @@ import numpy as np
 from .. import fresnel
 from .. import polarization as pol
 from ..tolerances import NORMAL_INCIDENCE_SIN
+from . import fresnel_kernel
 from . import interface_kernel as kernels
 from . import jit
 from .compile import COATED, MIRROR, UNCOATED, CompiledScene, on_partner_face
@@ -279,6 +280,35 @@ def _gap(cs, g, *, from_a, n1, n2, n_gap, thickness, wavelength, cos_angle, cohe
     )
 
 
+def _simple_faces(cs):
+    """Per global face: the :mod:`tracer.engine.fresnel_kernel` kind (-1: thin films,
+    absorber, detector or an invalid treatment left to the reference path to report)
+    and the reflectance of ideal coatings and partial mirrors. Cached on ``cs``."""
+    got = cs.__dict__.get("_simple_faces")
+    if got is not None:
+        return got
+    from ..coatings.response import _normalise_treatment
+
+    n = len(cs.face_code)
+    kind = np.full(n, -1, dtype=np.int64)
+    refl = np.zeros(n)
+    for f in range(n):
+        code = cs.face_code[f]
+        if code == UNCOATED:
+            kind[f] = fresnel_kernel.BARE
+        elif code == MIRROR:
+            kind[f] = fresnel_kernel.PERFECT_MIRROR
+        elif code == COATED:
+            k, coating, r = _normalise_treatment(cs.face_treatment[f])
+            valid = r is not None and 0.0 <= float(r) <= 1.0
+            if k == "ideal" and valid:
+                kind[f], refl[f] = fresnel_kernel.IDEAL, float(r)
+            elif k == "mirror" and coating is None and valid:
+                kind[f], refl[f] = fresnel_kernel.PARTIAL_MIRROR, float(r)
+    cs.__dict__["_simple_faces"] = (kind, refl)
+    return kind, refl
+
+
 def _coating_of(treatment):
     """The layer stack a gap face contributes (None for bare faces)."""
     if treatment is None or treatment.kind == "uncoated":
@@ -371,6 +401,20 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         plain &= ~across
         mirror &= ~across
         coated &= ~across
+    if fast:  # closed-form faces in one compiled pass; thin films and gaps below
+        simple_kind, simple_refl = _simple_faces(cs)
+        sk = simple_kind[face]
+        simple = sk >= 0
+        if any_across:
+            simple &= ~across
+        co.finish()
+        rows = np.nonzero(simple)[0]
+        if len(rows):
+            fresnel_kernel.simple_coefficients(co, rows, n1=n1, n2=n2, cos1=cos1, kind=sk[rows],
+                                               reflectance=simple_refl[face[rows]])
+            plain &= ~simple
+            mirror &= ~simple
+            coated &= ~simple
     if plain.any():
         i = None if plain.all() else np.nonzero(plain)[0]
         n1p, n2p, c1p = (n1, n2, cos1) if i is None else (n1[i], n2[i], cos1[i])
