@@ -41,6 +41,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import hash_kernel, jit
+
 __all__ = [
     "PathTree",
     "TRANSMIT",
@@ -200,7 +202,14 @@ class PathTree:
         key = (parent * self._nf + (np.asarray(face, dtype=np.int64) + 1)) * _NK + np.asarray(
             kind, dtype=np.int64
         )
-        ukey, inverse = np.unique(key, return_inverse=True)
+        if jit.compiled():
+            found, missing = hash_kernel.lookup(self._table, key)
+            if not missing:
+                return found
+            miss = np.nonzero(found < 0)[0]
+            ukey, inverse = np.unique(key[miss], return_inverse=True)
+        else:
+            ukey, inverse = np.unique(key, return_inverse=True)
         ids, added = self._table.get_or_add(ukey, self._size)
         if added:
             new = ids >= self._size
@@ -215,6 +224,9 @@ class PathTree:
             a["depth"][nid] = a["depth"][p] + 1
             a["root"][nid] = a["root"][p]
             self._size += added
+        if jit.compiled():
+            found[miss] = ids[inverse.reshape(-1)]
+            return found
         return ids[inverse.reshape(-1)]
 
     @property
