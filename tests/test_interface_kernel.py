@@ -91,13 +91,15 @@ def _summary_close(a, b, watts, path=""):
         assert a == b, path
 
 
+@pytest.mark.parametrize("mode", ["tree", "monte-carlo"])
 @pytest.mark.parametrize("path", SCENES, ids=[p.stem for p in SCENES])
-def test_trace_with_kernels_equals_numpy_reference(path):
+def test_trace_with_kernels_equals_numpy_reference(path, mode):
     scene = load(path)
+    rays = 60 if mode == "tree" else 400
     with jit.use_compiled(False):
-        ref = trace(scene, rays=60, progress=False)
+        ref = trace(scene, rays=rays, mode=mode, progress=False)
     with jit.use_compiled(True):
-        got = trace(scene, rays=60, progress=False)
+        got = trace(scene, rays=rays, mode=mode, progress=False)
     assert got.events == ref.events
     assert len(got.tree) == len(ref.tree)
     _summary_close(ref.summary(), got.summary(), 1e-12 * ref.source_power_w)

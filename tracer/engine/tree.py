@@ -31,6 +31,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import polarization as pol
+from . import children_kernel, jit
 from .batch import RayBatch, SourceTable
 from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
 from .interact import split
@@ -381,6 +382,8 @@ class _Tracer:
         thr = self.opts.power_threshold * table.power[b.root[ii]]
         ev = events[ii]
         children = []
+        fast = jit.compiled()
+        keep = {}
         for child, sel, dirs, pw, kind, org, med, lf in (
             ("r", rsel, sp.r_dir, r_power, sp.r_kind, pos[ii], b.medium[ii], fi),
             ("t", tsel, sp.t_dir, t_power, sp.t_kind, sp.t_origin, sp.t_medium, sp.t_face),
@@ -405,6 +408,9 @@ class _Tracer:
             if not live.any():
                 continue
             kl = k[live]
+            if fast:  # assembled below, both kinds in one pass
+                keep[child] = (kl, nodes[live], pk[live])
+                continue
             j = ii[kl]
             fld = sp.field(child, kl)
             if self.mc:
@@ -414,6 +420,11 @@ class _Tracer:
                 wl_index=b.wl_index[j], field=fld, power=pk[live], medium=med[kl],
                 node=nodes[live], events=ev[kl], last_face=lf[kl], root=b.root[j], opl=b.opl[j],
             ))
+        if fast:
+            if not keep:
+                return RayBatch.empty(0)
+            return children_kernel.assemble(b, ii, fi, pos, sp, ev, keep.get("r"), keep.get("t"),
+                                            (gain["r"], gain["t"]) if self.mc else None)
         return RayBatch.concatenate(children)
 
 
