@@ -75,7 +75,12 @@ def _summary_close(a, b, watts, path=""):
     (round-off residues such as the absorbed power of lossless faces); paths of equal
     power may be listed in either order, so lists of paths are compared by signature."""
     if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
+        if a.keys() != b.keys():  # per-face round-off residues listed on one side only
+            extra = [k for k in set(a) ^ set(b)
+                     if abs((a.get(k) if k in a else b.get(k)) or 0.0) <= watts]
+            assert set(a) ^ set(b) == set(extra), path
+            a = {k: v for k, v in a.items() if k not in extra}
+            b = {k: v for k, v in b.items() if k not in extra}
         for k in a:
             _summary_close(a[k], b[k], watts, f"{path}.{k}")
     elif isinstance(a, (list, tuple)):

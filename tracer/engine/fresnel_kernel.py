@@ -48,16 +48,66 @@ def _forward_root(z):
 @njit
 def _amp(T, t):
     # factor sqrt(T / |t|^2) making |t f|^2 == T (0 where t == 0)
-    a = abs(t)
-    a2 = a * a
+    a2 = t.real * t.real + t.imag * t.imag
     if a2 > 0.0:
         return t * math.sqrt(max(T, 0.0) / a2)
     return 0j
 
 
 @njit
+def _bare_real(n1, n2, c1):
+    """:func:`_bare` for a lossless ``n2`` below the critical angle: every quantity is
+    real (the complex formulas on zero imaginary parts give the same numbers)."""
+    q1 = n1 * c1
+    z = (n2 * n2 - n1 * n1) + q1 * q1
+    q2 = math.sqrt(z)
+    c2 = q2 / n2
+    den_s = q1 + q2
+    a = n2 * c1
+    b = n1 * c2
+    den_p = a + b
+    fs = q2 / q1 if q1 > 0.0 else 0.0
+    if den_s == 0.0 or den_p == 0.0:
+        return 0j, 0j, 1 + 0j, 1 + 0j, 0.0, 0.0, 1.0, 1.0, fs, fs
+    inv_s = 1.0 / den_s
+    inv_p = 1.0 / den_p
+    rs = (q1 - q2) * inv_s
+    ts = 2 * q1 * inv_s
+    rp = (a - b) * inv_p
+    tp = 2 * q1 * inv_p
+    return (complex(rs, 0.0), complex(rp, 0.0), complex(ts, 0.0), complex(tp, 0.0), rs * rs,
+            rp * rp, fs * (ts * ts), fs * (tp * tp), fs, fs)
+
+
+@njit
+def _bare_tir(n1, n2, c1, z):
+    """:func:`_bare` for a lossless ``n2`` beyond the critical angle (``z < 0``).
+
+    ``q2 = i g`` with ``g = sqrt(-z)`` (the decaying branch), so
+    ``rs = (q1 - i g) / (q1 + i g)`` and ``rp = (a - i b) / (a + i b)`` with
+    ``a = n2 c1``, ``b = n1 g / n2`` are unimodular: ``Rs = Rp = 1``, ``Ts = Tp = 0``.
+    """
+    q1 = n1 * c1
+    g = math.sqrt(-z)
+    a = n2 * c1
+    b = n1 * (g / n2)
+    ds = q1 * q1 + g * g
+    dp = a * a + b * b
+    rs = complex((q1 * q1 - g * g) / ds, -2.0 * q1 * g / ds)
+    rp = complex((a * a - b * b) / dp, -2.0 * a * b / dp)
+    return rs, rp, 0j, 0j, 1.0, 1.0, 0.0, 0.0, 0.0, 0.0
+
+
+@njit
 def _bare(n1, n2, c1):
     """rs, rp, ts, tp, Rs, Rp, Ts, Tp of a lossless n1 -> n2 interface, fs and fp."""
+    if n2.imag == 0.0:
+        nr = n2.real
+        q1 = n1 * c1
+        z = (nr * nr - n1 * n1) + q1 * q1
+        if z >= 0.0:
+            return _bare_real(n1, nr, c1)
+        return _bare_tir(n1, nr, c1, z)
     q1 = n1 * c1
     q_ref = n1 * c1
     z = (n2 * n2 - n1 * n1) + q_ref * q_ref
