@@ -204,17 +204,21 @@ class PathTree:
         )
         if jit.compiled():
             found, missing = hash_kernel.lookup(self._table, key)
-            if not missing:
-                return found
-            miss = np.nonzero(found < 0)[0]
-            ukey, inverse = np.unique(key[miss], return_inverse=True)
-        else:
-            ukey, inverse = np.unique(key, return_inverse=True)
+            if missing:
+                nk = hash_kernel.insert(self._table, key, found, missing, self._size)
+                self._add_nodes(nk, self._size + np.arange(len(nk)))
+            return found
+        ukey, inverse = np.unique(key, return_inverse=True)
         ids, added = self._table.get_or_add(ukey, self._size)
         if added:
             new = ids >= self._size
-            nk = ukey[new]
-            nid = ids[new]
+            self._add_nodes(ukey[new], ids[new])
+        return ids[inverse.reshape(-1)]
+
+    def _add_nodes(self, nk, nid):
+        """Store the nodes of new keys ``nk`` under ids ``nid`` (consecutive from the size)."""
+        added = len(nk)
+        if added:
             self._reserve(self._size + added)
             a = self._a
             p = nk // (_NK * self._nf)
@@ -224,10 +228,6 @@ class PathTree:
             a["depth"][nid] = a["depth"][p] + 1
             a["root"][nid] = a["root"][p]
             self._size += added
-        if jit.compiled():
-            found[miss] = ids[inverse.reshape(-1)]
-            return found
-        return ids[inverse.reshape(-1)]
 
     @property
     def parent(self) -> np.ndarray:

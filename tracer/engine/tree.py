@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import polarization as pol
-from . import children_kernel, jit
+from . import children_kernel, hash_kernel, jit
 from .batch import RayBatch, SourceTable
 from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
 from .interact import split
@@ -93,8 +93,21 @@ class Recorder:
             self._node_esc = grown
 
     def _slot(self, node):
+        if jit.compiled():
+            ids, missing = hash_kernel.lookup(self._slots, node)
+            if missing:
+                new = hash_kernel.insert(self._slots, node, ids, missing, self._n_slots)
+                self._add_slots(len(new), new, np.arange(len(new)) + self._n_slots)
+            return ids
         unode, inv = np.unique(node, return_inverse=True)
         ids, added = self._slots.get_or_add(unode, self._n_slots)
+        if added:
+            new = ids >= self._n_slots
+            self._add_slots(added, unode[new], ids[new])
+        return ids[inv.reshape(-1)]
+
+    def _add_slots(self, added, nodes, ids):
+        """Aggregate rows for ``added`` new detection nodes ``nodes`` under slot ``ids``."""
         if added:
             need = self._n_slots + added
             if need > len(self._agg):
@@ -105,10 +118,8 @@ class Recorder:
                 sn = np.zeros(cap, dtype=np.int64)
                 sn[: len(self._slot_node)] = self._slot_node
                 self._slot_node = sn
-            new = ids >= self._n_slots
-            self._slot_node[ids[new]] = unode[new]
+            self._slot_node[ids] = nodes
             self._n_slots = need
-        return ids[inv.reshape(-1)]
 
     def detect(self, det, node, position, direction, field, power, wavelength, coherency,
                p0, source, ray_id, mc):
