@@ -46,10 +46,11 @@ class KernelScene:
     convex : (S,) bool
     box : (S, 6) float [m]
         Bounding box ``lo_x, lo_y, lo_z, hi_x, hi_y, hi_z`` of each solid.
-    gbox : (G, 6) float [m]; mbox : (G, K, 6) float [m]; gmem : (G, K) int
+    gbox : (G, 6) float [m]; mbox : (G, 6, K) float [m]; gmem : (G, K) int; nmem : (G,) int
         Groups of convex solids (the compiled scene's groups, or one group of all
-        solids): the box around each group's members, the member boxes and the member
-        solids (-1 padding). G = 0 when there is no convex solid.
+        solids): the box around each group's members, the member boxes by coordinate,
+        the member solids (-1 padding) and their number. G = 0 when there is no convex
+        solid.
     det_* : detector arrays; ``det_off = n . position`` [m].
     meshes : list of int
         The non-convex solids (left to the numpy path).
@@ -74,11 +75,12 @@ class KernelScene:
         G = len(groups)
         K = max([len(m) for m in groups] + [1])
         self.gmem = np.full((G, K), -1, dtype=np.int64)
-        self.mbox = np.zeros((G, K, 6))
+        self.nmem = np.array([len(m) for m in groups], dtype=np.int64)
+        self.mbox = np.zeros((G, 6, K))  # coordinate-major: the box loop runs in SIMD lanes
         self.gbox = np.zeros((G, 6))
         for g, m in enumerate(groups):
             self.gmem[g, :len(m)] = m
-            self.mbox[g, :len(m)] = box[m]
+            self.mbox[g, :, :len(m)] = box[m].T
             self.gbox[g] = np.concatenate([box[m, :3].min(axis=0), box[m, 3:].max(axis=0)])
         self.face_solid = np.ascontiguousarray(cs.face_solid, dtype=np.int64)
         self.face_local = np.ascontiguousarray(cs.face_local, dtype=np.int64)
@@ -107,122 +109,55 @@ def kernel_scene(cs) -> KernelScene:
     return ks
 
 
-# --- per-ray pieces (inlined by numba into the loops below) ---------------------------
+# Helpers take and return scalars only: numba counts references to the arrays passed to
+# a call, and those atomic counts inside the ray loop would cost more than the geometry.
 
 @njit
-def _slab(box, ox, oy, oz, ix, iy, iz):
-    """``max(t_enter, 0)`` into ``box`` (6,), ``inf`` where missed (the reference's arithmetic)."""
-    t1 = (box[0] - ox) * ix
-    t2 = (box[3] - ox) * ix
-    tmin = min(t1, t2)
-    tmax = max(t1, t2)
-    t1 = (box[1] - oy) * iy
-    t2 = (box[4] - oy) * iy
-    tmin = max(tmin, min(t1, t2))
-    tmax = min(tmax, max(t1, t2))
-    t1 = (box[2] - oz) * iz
-    t2 = (box[5] - oz) * iz
-    tmin = max(tmin, min(t1, t2))
-    tmax = min(tmax, max(t1, t2))
-    tmin = max(tmin, 0.0)
-    if tmax < tmin:
-        return np.inf
-    return tmin
+def _slab(lx, ly, lz, hx, hy, hz, ox, oy, oz, ix, iy, iz):
+    """``max(t_enter, 0)`` into box ``lo, hi`` [m], ``inf`` where missed.
 
-
-@njit
-def _enter(planes, pface, nplanes, s, ox, oy, oz, dx, dy, dz, t_best):
-    """Entry ``(t, face)`` of a ray into convex solid ``s`` (``inf, -1``: no hit).
-
-    Stops early where the result provably cannot beat ``t_best`` (it is then reported as
-    a miss, which the caller treats alike).
+    The reference's arithmetic (``(lo - o) * inv`` per axis), written with selects so
+    that a loop over boxes vectorises.
     """
-    te = -np.inf
-    tx = np.inf
-    k = 0
-    for j in range(nplanes[s]):
-        nx = planes[s, j, 0]
-        ny = planes[s, j, 1]
-        nz = planes[s, j, 2]
-        den = nx * dx + ny * dy + nz * dz
-        num = planes[s, j, 3] - (nx * ox + ny * oy + nz * oz)
-        t = num / den
-        if den < 0:
-            if t > te:
-                te = t
-                k = j
-            elif t != t:
-                return np.inf, -1
-        elif den > 0:
-            if t < tx:
-                tx = t
-            elif t != t:
-                return np.inf, -1
-        elif den == 0:
-            if num < 0:  # parallel to the plane and outside it
-                return np.inf, -1
-        else:  # nan
-            return np.inf, -1
-        if te > tx or te > t_best:
-            return np.inf, -1
-    if te <= tx and tx > PLANE_EPS and te > -PLANE_EPS:
-        return (te if te >= 0.0 else 0.0), pface[s, k]
-    return np.inf, -1
+    t1 = (lx - ox) * ix
+    t2 = (hx - ox) * ix
+    tmin = t1 if t1 < t2 else t2
+    tmax = t1 if t1 > t2 else t2
+    t1 = (ly - oy) * iy
+    t2 = (hy - oy) * iy
+    lo = t1 if t1 < t2 else t2
+    hi = t1 if t1 > t2 else t2
+    tmin = lo if lo > tmin else tmin
+    tmax = hi if hi < tmax else tmax
+    t1 = (lz - oz) * iz
+    t2 = (hz - oz) * iz
+    lo = t1 if t1 < t2 else t2
+    hi = t1 if t1 > t2 else t2
+    tmin = lo if lo > tmin else tmin
+    tmax = hi if hi < tmax else tmax
+    tmin = tmin if tmin > 0.0 else 0.0
+    return np.inf if tmax < tmin else tmin
 
 
 @njit
-def _exit(planes, pface, nplanes, s, ox, oy, oz, dx, dy, dz, last):
-    """Exit ``(t, face)`` of a ray inside convex solid ``s``, ``last`` excluded."""
-    best = np.inf
-    k = -1
-    for j in range(nplanes[s]):
-        nx = planes[s, j, 0]
-        ny = planes[s, j, 1]
-        nz = planes[s, j, 2]
-        den = nx * dx + ny * dy + nz * dz
-        if den > 0 and pface[s, j] != last:
-            num = planes[s, j, 3] - (nx * ox + ny * oy + nz * oz)
-            t = num / den
-            if t < best:
-                best = t
-                k = j
-            elif t != t:
-                return np.inf, -1
-    if k < 0 or best == -np.inf:
-        return np.inf, -1
-    return (best if best >= 0.0 else 0.0), pface[s, k]
-
-
-@njit
-def _left_behind(planes, convex, face_solid, face_local, last, ox, oy, oz, dx, dy, dz):
-    """The convex solid a ray has just left and cannot re-enter, else -1 (as the reference)."""
-    if last < 0:
-        return -1
-    s = face_solid[last]
-    if s < 0 or not convex[s]:
-        return -1
-    j = face_local[last]
-    nx = planes[s, j, 0]
-    ny = planes[s, j, 1]
-    nz = planes[s, j, 2]
-    den = nx * dx + ny * dy + nz * dz
-    num = planes[s, j, 3] - (nx * ox + ny * oy + nz * oz)
-    tf = num / den
-    if den > 0 and tf <= PLANE_EPS:
-        return s
-    return -1
+def _plane(nx, ny, nz, d, ox, oy, oz, dx, dy, dz):
+    """``den = n . k`` and ``num = d - n . o`` summed left to right, as the reference."""
+    return nx * dx + ny * dy + nz * dz, d - (nx * ox + ny * oy + nz * oz)
 
 
 @njit
 def solid_hits(origin, direction, medium, last_face, planes, pface, nplanes, convex, gbox,
-               mbox, gmem, face_solid, face_local, t_out, face_out, solid_out):
+               mbox, gmem, nmem, face_solid, face_local, t_out, face_out, solid_out):
     """Nearest convex-solid face of every ray, written into ``t_out, face_out, solid_out``.
 
-    Rays inside a convex solid get their exit, rays in the ambient their entry into the
-    nearest convex solid and that solid's index in ``solid_out``; rays inside a
-    non-convex solid are left at ``inf, -1``. ``gbox`` (G, 6), ``mbox`` (G, K, 6) and
-    ``gmem`` (G, K) are the group boxes, member boxes and member solids (convex members
-    first, -1 after).
+    Rays inside a convex solid get their exit: the nearest plane crossed outwards
+    (``den > 0``), the plane of the face last left excluded. Rays in the ambient get
+    their entry into the nearest convex solid (the largest ``t`` of the planes crossed
+    inwards against the smallest of those crossed outwards; no hit where the ray is
+    parallel to a plane and outside it, or where a ``t`` is nan, as the reference's
+    max/min propagate nan), ties going to the higher solid index, and that solid's index
+    in ``solid_out``. Rays inside a non-convex solid are left at ``inf, -1``.
+    ``gbox, mbox, gmem, nmem``: the groups of :class:`KernelScene`.
     """
     n = origin.shape[0]
     G = gbox.shape[0]
@@ -237,50 +172,97 @@ def solid_hits(origin, direction, medium, last_face, planes, pface, nplanes, con
         dy = direction[i, 1]
         dz = direction[i, 2]
         med = medium[i]
+        last = last_face[i]
         t = np.inf
         f = -1
         b = -1
         if med >= 0:
-            if convex[med]:
-                t, f = _exit(planes, pface, nplanes, med, ox, oy, oz, dx, dy, dz, last_face[i])
-        elif G > 0:
-            skip = _left_behind(planes, convex, face_solid, face_local, last_face[i],
-                                ox, oy, oz, dx, dy, dz)
+            if convex[med]:  # exit ------------------------------------------------
+                k = -1
+                for j in range(nplanes[med]):
+                    den, num = _plane(planes[med, j, 0], planes[med, j, 1], planes[med, j, 2],
+                                      planes[med, j, 3], ox, oy, oz, dx, dy, dz)
+                    if den > 0 and pface[med, j] != last:
+                        tj = num / den
+                        if tj < t:
+                            t = tj
+                            k = j
+                        elif tj != tj:  # the reference's min is nan: no exit
+                            k = -2
+                            break
+                if k < 0 or t == -np.inf:
+                    t = np.inf
+                else:
+                    t = t if t >= 0.0 else 0.0
+                    f = pface[med, k]
+        elif G > 0:  # entry -----------------------------------------------------------
+            # the convex solid just left, when the ray provably cannot re-enter it
+            skip = -1
+            if last >= 0:
+                sl = face_solid[last]
+                if sl >= 0 and convex[sl]:
+                    j = face_local[last]
+                    den, num = _plane(planes[sl, j, 0], planes[sl, j, 1], planes[sl, j, 2],
+                                      planes[sl, j, 3], ox, oy, oz, dx, dy, dz)
+                    if den > 0 and num / den <= PLANE_EPS:
+                        skip = sl
             # a zero component becomes a tiny one of the same sign: no 0 * inf
             ix = 1.0 / (dx if dx != 0 else 1e-300)
             iy = 1.0 / (dy if dy != 0 else 1e-300)
             iz = 1.0 / (dz if dz != 0 else 1e-300)
             for g in range(G):
-                gt[g] = _slab(gbox[g], ox, oy, oz, ix, iy, iz)
+                gt[g] = _slab(gbox[g, 0], gbox[g, 1], gbox[g, 2], gbox[g, 3], gbox[g, 4],
+                              gbox[g, 5], ox, oy, oz, ix, iy, iz)
             while True:  # groups nearest box first, while a box entry is within the best hit
                 m = 0
                 for g in range(1, G):
-                    if gt[g] < gt[m]:
-                        m = g
+                    m = g if gt[g] < gt[m] else m
                 if gt[m] > t or gt[m] == np.inf:
                     break
                 gt[m] = np.inf
-                nc = 0
-                for c in range(K):
-                    s = gmem[m, c]
-                    if s < 0:
-                        break
-                    ct[c] = np.inf if s == skip else _slab(mbox[m, c], ox, oy, oz, ix, iy, iz)
-                    nc += 1
-                while nc:  # members nearest box first
+                nc = nmem[m]
+                for c in range(nc):  # member boxes (no branch: the loop vectorises)
+                    tb = _slab(mbox[m, 0, c], mbox[m, 1, c], mbox[m, 2, c], mbox[m, 3, c],
+                               mbox[m, 4, c], mbox[m, 5, c], ox, oy, oz, ix, iy, iz)
+                    ct[c] = np.inf if gmem[m, c] == skip else tb
+                while True:  # members nearest box first
                     q = 0
                     for c in range(1, nc):
-                        if ct[c] < ct[q]:
-                            q = c
+                        q = c if ct[c] < ct[q] else q
                     if ct[q] > t or ct[q] == np.inf:
                         break
                     ct[q] = np.inf
                     s = gmem[m, q]
-                    th, fh = _enter(planes, pface, nplanes, s, ox, oy, oz, dx, dy, dz, t)
-                    if th < np.inf and (th < t or (th == t and s > b)):
-                        t = th
-                        f = fh
-                        b = s
+                    te = -np.inf
+                    tx = np.inf
+                    k = 0
+                    for j in range(nplanes[s]):
+                        den, num = _plane(planes[s, j, 0], planes[s, j, 1], planes[s, j, 2],
+                                          planes[s, j, 3], ox, oy, oz, dx, dy, dz)
+                        tj = num / den
+                        if den < 0:
+                            if tj > te:
+                                te = tj
+                                k = j
+                            elif tj != tj:
+                                k = -1
+                        elif den > 0:
+                            if tj < tx:
+                                tx = tj
+                            elif tj != tj:
+                                k = -1
+                        elif den != 0 or num < 0:  # nan, or parallel and outside
+                            k = -1
+                        # a miss, or (entry beyond the best hit) no better than one
+                        if k < 0 or te > tx or te > t:
+                            k = -1
+                            break
+                    if k >= 0 and tx > PLANE_EPS and te > -PLANE_EPS:
+                        te = te if te >= 0.0 else 0.0
+                        if te < t or (te == t and s > b):
+                            t = te
+                            f = pface[s, k]
+                            b = s
         t_out[i] = t
         face_out[i] = f
         solid_out[i] = b

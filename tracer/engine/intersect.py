@@ -381,8 +381,8 @@ def _nearest_hit_compiled(cs, origin, direction, medium, last_face):
     ks = hit_kernel.kernel_scene(cs)
     solid = np.empty(n, dtype=np.int64)
     hit_kernel.solid_hits(origin, direction, medium, last_face, ks.planes, ks.pface,
-                          ks.nplanes, ks.convex, ks.gbox, ks.mbox, ks.gmem, ks.face_solid,
-                          ks.face_local, t, face, solid)
+                          ks.nplanes, ks.convex, ks.gbox, ks.mbox, ks.gmem, ks.nmem,
+                          ks.face_solid, ks.face_local, t, face, solid)
     if ks.meshes:
         _merge_meshes(cs, ks, origin, direction, medium, t, face, solid)
     if len(cs.detector_names):
