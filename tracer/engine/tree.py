@@ -490,6 +490,15 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
                 if len(cur) > opts.chunk:
                     stack.extend(reversed(cur.split(opts.chunk)))
                     continue
+                # small batches (thin ghost branches) are merged with the next ones on
+                # the stack: rays are independent, and each step has a fixed cost
+                if len(cur) < opts.chunk // 2 and stack and len(stack[-1]) + len(cur) <= opts.chunk:
+                    merged = [cur]
+                    size = len(cur)
+                    while stack and size + len(stack[-1]) <= opts.chunk:
+                        size += len(stack[-1])
+                        merged.append(stack.pop())
+                    cur = RayBatch.concatenate(merged)
                 nxt = tracer.step(cur, table)
                 if len(nxt):
                     stack.append(nxt)
