@@ -21,29 +21,18 @@ __all__ = ["assemble"]
 
 
 @njit
-def _field(s, d, a_s, a_p, amp_s, amp_p, i, g, use_gain, out, o):
-    s0 = s[i, 0]
-    s1 = s[i, 1]
-    s2 = s[i, 2]
-    d0 = d[i, 0]
-    d1 = d[i, 1]
-    d2 = d[i, 2]
-    p0 = d1 * s2 - d2 * s1
-    p1 = d2 * s0 - d0 * s2
-    p2 = d0 * s1 - d1 * s0
-    for col in range(2):
-        cs = amp_s[i] * a_s[i, col]
-        cp = amp_p[i] * a_p[i, col]
-        e0 = complex(s0 * cs.real + p0 * cp.real, s0 * cs.imag + p0 * cp.imag)
-        e1 = complex(s1 * cs.real + p1 * cp.real, s1 * cs.imag + p1 * cp.imag)
-        e2 = complex(s2 * cs.real + p2 * cp.real, s2 * cs.imag + p2 * cp.imag)
-        if use_gain:
-            e0 = complex(e0.real * g, e0.imag * g)
-            e1 = complex(e1.real * g, e1.imag * g)
-            e2 = complex(e2.real * g, e2.imag * g)
-        out[o, 0, col] = e0
-        out[o, 1, col] = e1
-        out[o, 2, col] = e2
+def _column(s0, s1, s2, p0, p1, p2, amp_s, amp_p, a_s, a_p, g, use_gain):
+    # scalars only: array arguments to a helper cost reference counting per call
+    cs = amp_s * a_s
+    cp = amp_p * a_p
+    e0 = complex(s0 * cs.real + p0 * cp.real, s0 * cs.imag + p0 * cp.imag)
+    e1 = complex(s1 * cs.real + p1 * cp.real, s1 * cs.imag + p1 * cp.imag)
+    e2 = complex(s2 * cs.real + p2 * cp.real, s2 * cs.imag + p2 * cp.imag)
+    if use_gain:
+        e0 = complex(e0.real * g, e0.imag * g)
+        e1 = complex(e1.real * g, e1.imag * g)
+        e2 = complex(e2.real * g, e2.imag * g)
+    return e0, e1, e2
 
 
 @njit
@@ -57,10 +46,24 @@ def _assemble(ii, pos, t_origin, r_dir, t_dir, s, a_s, a_p, r_amp_s, r_amp_p, t_
         i = kl_r[m]
         j = ii[i]
         for a in range(3):
-            o_origin[m, a] = pos[j, a]
+            o_origin[m, a] = pos[i, a]
             o_dir[m, a] = r_dir[i, a]
         g = gain_r[i] if use_gain else 1.0
-        _field(s, r_dir, a_s, a_p, r_amp_s, r_amp_p, i, g, use_gain, o_field, m)
+        s0 = s[i, 0]
+        s1 = s[i, 1]
+        s2 = s[i, 2]
+        d0 = r_dir[i, 0]
+        d1 = r_dir[i, 1]
+        d2 = r_dir[i, 2]
+        p0 = d1 * s2 - d2 * s1  # p_out = d x s
+        p1 = d2 * s0 - d0 * s2
+        p2 = d0 * s1 - d1 * s0
+        for col in range(2):
+            e0, e1, e2 = _column(s0, s1, s2, p0, p1, p2, r_amp_s[i], r_amp_p[i],
+                                 a_s[i, col], a_p[i, col], g, use_gain)
+            o_field[m, 0, col] = e0
+            o_field[m, 1, col] = e1
+            o_field[m, 2, col] = e2
         o_wl[m] = wavelength[j]
         o_wli[m] = wl_index[j]
         o_power[m] = pow_r[m]
@@ -78,7 +81,21 @@ def _assemble(ii, pos, t_origin, r_dir, t_dir, s, a_s, a_p, r_amp_s, r_amp_p, t_
             o_origin[o, a] = t_origin[i, a]
             o_dir[o, a] = t_dir[i, a]
         g = gain_t[i] if use_gain else 1.0
-        _field(s, t_dir, a_s, a_p, t_amp_s, t_amp_p, i, g, use_gain, o_field, o)
+        s0 = s[i, 0]
+        s1 = s[i, 1]
+        s2 = s[i, 2]
+        d0 = t_dir[i, 0]
+        d1 = t_dir[i, 1]
+        d2 = t_dir[i, 2]
+        p0 = d1 * s2 - d2 * s1  # p_out = d x s
+        p1 = d2 * s0 - d0 * s2
+        p2 = d0 * s1 - d1 * s0
+        for col in range(2):
+            e0, e1, e2 = _column(s0, s1, s2, p0, p1, p2, t_amp_s[i], t_amp_p[i],
+                                 a_s[i, col], a_p[i, col], g, use_gain)
+            o_field[o, 0, col] = e0
+            o_field[o, 1, col] = e1
+            o_field[o, 2, col] = e2
         o_wl[o] = wavelength[j]
         o_wli[o] = wl_index[j]
         o_power[o] = pow_t[m]
@@ -105,8 +122,8 @@ def assemble(b, ii, fi, pos, sp, ev, reflected, transmitted, gains=None):
         Rays of ``b`` that met an interface (the rows of the split ``sp``).
     fi : (M,) int
         The face each of them met.
-    pos : (N, 3) float [m]
-        Hit points of the rays of ``b``.
+    pos : (M, 3) float [m]
+        Hit points of the rays ``ii`` (the reflected children start there).
     sp : tracer.engine.interact.Split
     ev : (M,) int
         Event count of the children.

@@ -293,6 +293,13 @@ class _Tracer:
         self.mc = opts.mode == "monte-carlo"
 
     def step(self, b: RayBatch, table: SourceTable) -> RayBatch:
+        """One event for every ray of ``b``; returns the batch of surviving children.
+
+        The rays of ``b`` are addressed through index arrays (``h``: rays that hit
+        something, ``idx``: rays that met an interface) rather than compacted copies,
+        so each quantity is gathered once; ``b`` itself is updated in place (power,
+        field and optical path of the rays that hit) and dropped by the caller.
+        """
         cs, led, tree, rec = self.cs, self.ledger, self.tree, self.rec
         src = table.source[b.root]
         t, face = nearest_hit(cs, b.origin, b.direction, b.medium, b.last_face)
@@ -308,70 +315,83 @@ class _Tracer:
             lost = miss & (b.medium >= 0)
             if lost.any():
                 led.book(src[lost], led.LOST, b.power[lost])
-            keep = ~miss
-            b = b.take(keep)
-            t, face, src = t[keep], face[keep], src[keep]
-        if len(b) == 0:
-            return b
-        rec.events += len(b)
-        n_med = self.ntab[b.medium + 1, b.wl_index]
+            h = np.nonzero(~miss)[0]
+            t, face, src = t[h], face[h], src[h]
+        else:
+            h = np.arange(len(b))
+        if len(h) == 0:
+            return RayBatch.empty(0)
+        rec.events += len(h)
+        med = b.medium[h]
+        wl_index = b.wl_index[h]
+        n_med = self.ntab[med + 1, wl_index]
         # bulk absorption over the segment (Beer-Lambert, alpha = 4 pi kappa / lambda)
         if self.kappa_any:
             kap = n_med.imag
             lossy = kap > 0
             if lossy.any():
-                att = np.exp(-2.0 * np.pi * kap[lossy] * t[lossy] / b.wavelength[lossy])
+                hl = h[lossy]
+                att = np.exp(-2.0 * np.pi * kap[lossy] * t[lossy] / b.wavelength[hl])
                 if self.mc:
-                    u = uniforms(self.opts.seed, src[lossy], table.ray_id[b.root[lossy]],
-                                 b.events[lossy], BULK)
-                    dead = np.zeros(len(b), dtype=bool)
+                    u = uniforms(self.opts.seed, src[lossy], table.ray_id[b.root[hl]],
+                                 b.events[hl], BULK)
+                    dead = np.zeros(len(h), dtype=bool)
                     dead[np.nonzero(lossy)[0][u >= att**2]] = True
                     if dead.any():
-                        led.book(src[dead], led.bulk_absorbed(b.medium[dead]), b.power[dead])
-                        b = b.take(~dead)
-                        t, face, src, n_med = t[~dead], face[~dead], src[~dead], n_med[~dead]
+                        hd = h[dead]
+                        led.book(src[dead], led.bulk_absorbed(b.medium[hd]), b.power[hd])
+                        alive = ~dead
+                        h, t, face, src, n_med = h[alive], t[alive], face[alive], src[alive], n_med[alive]
+                        med, wl_index = med[alive], wl_index[alive]
                 else:
-                    newp = b.power[lossy] * att**2
-                    led.book(src[lossy], led.bulk_absorbed(b.medium[lossy]),
-                             b.power[lossy] - newp)
-                    b.power[lossy] = newp
-                    b.field[lossy] *= att[:, None, None]
-        if len(b) == 0:
-            return b
-        pos = b.origin + t[:, None] * b.direction
-        b.opl = b.opl + n_med.real * t
+                    newp = b.power[hl] * att**2
+                    led.book(src[lossy], led.bulk_absorbed(b.medium[hl]), b.power[hl] - newp)
+                    b.power[hl] = newp
+                    b.field[hl] *= att[:, None, None]
+        if len(h) == 0:
+            return RayBatch.empty(0)
+        direction = b.direction[h]
+        origin = b.origin[h]
+        pos = origin + t[:, None] * direction
+        b.opl[h] = b.opl[h] + n_med.real * t
         if self.opts.segments:
-            rec.segment(b.origin, pos, b.power, b.wavelength, b.node)
+            rec.segment(origin, pos, b.power[h], b.wavelength[h], b.node[h])
         code = cs.face_code[face]
-        events = b.events + 1
         # detectors -------------------------------------------------------------
         det = code == DETECTOR
         if det.any():
+            hd = h[det]
             di = face[det] - cs.n_faces
-            node = tree.extend(b.node[det], face[det], np.full(int(det.sum()), DETECT))
-            led.book(src[det], led.detector(di), b.power[det])
-            rec.detect(di, node, pos[det], b.direction[det], b.field[det], b.power[det],
-                       b.wavelength[det], table.coherency[b.root[det]],
-                       table.power[b.root[det]], src[det], table.ray_id[b.root[det]], self.mc)
+            node = tree.extend(b.node[hd], face[det], np.full(len(hd), DETECT))
+            led.book(src[det], led.detector(di), b.power[hd])
+            root = b.root[hd]
+            rec.detect(di, node, pos[det], direction[det], b.field[hd], b.power[hd],
+                       b.wavelength[hd], table.coherency[root], table.power[root], src[det],
+                       table.ray_id[root], self.mc)
         ab = code == ABSORBER
         if ab.any():
-            tree.extend(b.node[ab], face[ab], np.full(int(ab.sum()), ABSORB))
-            led.book(src[ab], led.face_absorbed(face[ab]), b.power[ab])
+            ha = h[ab]
+            tree.extend(b.node[ha], face[ab], np.full(len(ha), ABSORB))
+            led.book(src[ab], led.face_absorbed(face[ab]), b.power[ha])
         it = ~(det | ab)
         if not it.any():
             return RayBatch.empty(0)
         ii = np.nonzero(it)[0]
+        idx = h[ii]  # rows of b meeting an interface
         fi = face[ii]
-        wl_i = b.wl_index[ii]
-        sp = split(cs, direction=b.direction[ii], position=pos[ii], field=b.field[ii],
-                   power=b.power[ii], medium=b.medium[ii], face=fi,
-                   wavelength=b.wavelength[ii], wl_index=wl_i, ntab=self.ntab,
-                   coherency=table.coherency, root=b.root[ii],
+        wl_i = wl_index[ii]
+        med_i = med[ii]
+        pos_i = pos[ii]
+        root_i = b.root[idx]
+        parent_p = b.power[idx]
+        sp = split(cs, direction=direction[ii], position=pos_i, field=b.field[idx],
+                   power=parent_p, medium=med_i, face=fi, wavelength=b.wavelength[idx],
+                   wl_index=wl_i, ntab=self.ntab, coherency=table.coherency, root=root_i,
                    coherence_length=self.coh_len[wl_i])
         src_i = src[ii]
-        parent_p = b.power[ii]
+        ev = b.events[idx] + 1
         if self.mc:
-            u = uniforms(self.opts.seed, src_i, table.ray_id[b.root[ii]], b.events[ii], FACE)
+            u = uniforms(self.opts.seed, src_i, table.ray_id[root_i], ev - 1, FACE)
             which = choose(u, sp.r_power, sp.t_power * sp.t_exists, parent_p)
             gone = which == 2
             if gone.any():
@@ -385,21 +405,20 @@ class _Tracer:
             t_power = parent_p
         else:
             led.book(src_i, led.face_absorbed(fi), sp.absorbed)
-            rsel = np.ones(len(ii), dtype=bool)
+            rsel = None  # every reflected child
             tsel = sp.t_exists
             r_power = sp.r_power
             t_power = sp.t_power
-        parent_nodes = b.node[ii]
-        thr = self.opts.power_threshold * table.power[b.root[ii]]
-        ev = events[ii]
+        parent_nodes = b.node[idx]
+        thr = self.opts.power_threshold * table.power[root_i]
         children = []
         fast = jit.compiled()
         keep = {}
-        for child, sel, dirs, pw, kind, org, med, lf in (
-            ("r", rsel, sp.r_dir, r_power, sp.r_kind, pos[ii], b.medium[ii], fi),
+        for child, sel, dirs, pw, kind, org, medium, lf in (
+            ("r", rsel, sp.r_dir, r_power, sp.r_kind, pos_i, med_i, fi),
             ("t", tsel, sp.t_dir, t_power, sp.t_kind, sp.t_origin, sp.t_medium, sp.t_face),
         ):
-            k = np.nonzero(sel)[0]
+            k = np.arange(len(ii)) if sel is None else np.nonzero(sel)[0]
             if not len(k):
                 continue
             nodes = tree.extend(parent_nodes[k], fi[k], kind[k])
@@ -422,19 +441,20 @@ class _Tracer:
             if fast:  # assembled below, both kinds in one pass
                 keep[child] = (kl, nodes[live], pk[live])
                 continue
-            j = ii[kl]
+            j = idx[kl]
             fld = sp.field(child, kl)
             if self.mc:
                 fld *= gain[child][kl, None, None]
             children.append(RayBatch(
                 origin=org[kl], direction=dirs[kl], wavelength=b.wavelength[j],
-                wl_index=b.wl_index[j], field=fld, power=pk[live], medium=med[kl],
+                wl_index=b.wl_index[j], field=fld, power=pk[live], medium=medium[kl],
                 node=nodes[live], events=ev[kl], last_face=lf[kl], root=b.root[j], opl=b.opl[j],
             ))
         if fast:
             if not keep:
                 return RayBatch.empty(0)
-            return children_kernel.assemble(b, ii, fi, pos, sp, ev, keep.get("r"), keep.get("t"),
+            return children_kernel.assemble(b, idx, fi, pos_i, sp, ev, keep.get("r"),
+                                            keep.get("t"),
                                             (gain["r"], gain["t"]) if self.mc else None)
         return RayBatch.concatenate(children)
 
