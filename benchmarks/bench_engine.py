@@ -1,7 +1,8 @@
 """Engine benchmark: a standard 3D scene of a dozen solids, non-sequential, threshold 1e-6.
 
 How to run: ``python benchmarks/bench_engine.py [--quick] [--rays N] [--memory N]``
-(embree comparison: ``pip install '.[bench]'``; about 10 min for the full run on one free core).
+(embree comparison: ``pip install '.[bench]'``; about 3 min for the full run on one free core,
+about 10 min for ``--memory 10000000``).
 
     python benchmarks/bench_engine.py            # 10^6 source rays, growth runs at 10^5 -> 10^6
     python benchmarks/bench_engine.py --quick    # 10^5 source rays, growth runs at 10^4 -> 10^5

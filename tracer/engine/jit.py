@@ -52,7 +52,15 @@ def use_compiled(flag: bool):
 
 
 def njit(fn):
-    """Compile ``fn`` with numba (cached, GIL released); unchanged when numba is missing."""
+    """Compile ``fn`` with numba (cached, GIL released); unchanged when numba is missing.
+
+    The compiled code is cached next to the sources, or in the user's cache folder
+    (``NUMBA_CACHE_DIR``) when the installation is read-only; where neither can be
+    written the kernels are compiled afresh in each process.
+    """
     if _numba is None:
         return fn
-    return _numba.njit(cache=True, nogil=True, error_model="numpy")(fn)
+    try:
+        return _numba.njit(cache=True, nogil=True, error_model="numpy")(fn)
+    except RuntimeError:  # no writable cache location
+        return _numba.njit(nogil=True, error_model="numpy")(fn)
