@@ -18,7 +18,10 @@ from tracer.scene.model import (
     TraceSettings,
 )
 
-AIR = ConstantIndex(1.0, name="air")
+# The factory's media are absolute numbers (index_basis "vacuum"), so that the tests'
+# closed forms use the indices as written; catalog materials passed in are referred to
+# air (tracer.materials.basis) and tests using them take their absolute index.
+AIR = ConstantIndex(1.0, name="air", index_basis="vacuum")
 
 
 def _solid(normals, offsets, names):
@@ -52,7 +55,7 @@ def prism(vertices_xy, z0, z1, names):
 
 
 def solid(name, geometry, n=1.5, faces=None, material=None):
-    mat = material if material is not None else ConstantIndex(n, name=f"n{n}")
+    mat = material if material is not None else ConstantIndex(n, name=f"n{n}", index_basis="vacuum")
     return SolidSpec(name=name, material=mat, material_name=mat.name, geometry=geometry,
                      faces=faces or {}, kind="custom")
 
@@ -88,7 +91,7 @@ def far_field(name="sky", normal=(0, 0, 1)):
 
 
 def gap(name, a, fa, b, fb, thickness, n=1.0, coherence="auto"):
-    med = ConstantIndex(n, name=f"gap{n}")
+    med = ConstantIndex(n, name=f"gap{n}", index_basis="vacuum")
     return GapSpec(name=name, solid_a=a, face_a=fa, solid_b=b, face_b=fb, medium=med,
                    medium_name=med.name, thickness=thickness, coherence=coherence)
 

@@ -30,14 +30,17 @@ def ftir_pair_toml(*, title: str, seed: int, gap: str, angle: str = "90 deg",
     sampling : str, optional
         Source ``sampling`` (the default sampling when ``None``).
     vacuum_ambient : bool
-        Declare a constant-index ``vac`` material as the ambient medium.
+        Declare a constant-index ``vac`` material as the ambient medium; ``vac`` and the
+        glass are then absolute indices (``index_basis = "vacuum"``), so that the tests'
+        closed forms take them as written.
     coating : bool
         Declare the single-layer ``ar`` stack coating (declared, not used).
     extra : str
         Tables appended at the end (requirements, tolerances).
     """
     ambient = 'ambient = "vac"\n' if vacuum_ambient else ""
-    vac = '[materials.vac]\nmodel = "constant"\nn = 1.0\n\n' if vacuum_ambient else ""
+    vac = ('[materials.vac]\nmodel = "constant"\nn = 1.0\nindex_basis = "vacuum"\n\n'
+           if vacuum_ambient else "")
     ar = ('[coatings.ar]\nkind = "stack"\n'
           'layers = [{ material = "glass", thickness = "100 nm" }]\n\n') if coating else ""
     sample = f'sampling = "{sampling}"\n' if sampling else ""
@@ -53,6 +56,7 @@ wavelengths = [{wavelengths}]
 {vac}[materials.glass]
 model = "constant"
 n = 1.5
+{'index_basis = "vacuum"' if vacuum_ambient else ""}
 
 {ar}[solids.lower]
 material = "glass"

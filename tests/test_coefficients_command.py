@@ -7,6 +7,7 @@ import pytest
 import tmm
 
 from tracer.cli import main
+from tracer.materials.basis import standard_air_index
 
 
 def test_table_matches_tmm(tmp_path, capsys):
@@ -18,7 +19,10 @@ def test_table_matches_tmm(tmp_path, capsys):
     table = json.loads(out.read_text())
     for d, rs, rp, ts, tp in zip(table["thickness_m"], table["Rs"], table["Rp"], table["Ts"], table["Tp"]):
         for pol, r_val, t_val in (("s", rs, ts), ("p", rp, tp)):
-            ref = tmm.coh_tmm(pol, [1.5, 1.0, 1.5], [np.inf, d * 1e9, np.inf], np.radians(50), 633.0)
+            # the indices typed are relative to air: absolute = value x n_air (Ciddor)
+            na = float(standard_air_index(633e-9))
+            ref = tmm.coh_tmm(pol, [1.5 * na, na, 1.5 * na], [np.inf, d * 1e9, np.inf],
+                              np.radians(50), 633.0)
             assert r_val == pytest.approx(ref["R"], abs=1e-12)
             assert t_val == pytest.approx(ref["T"], abs=1e-12)
     text = capsys.readouterr().out

@@ -131,8 +131,9 @@ def test_tilted_plate_mueller(tmp_path, tilt):
     sig = "beam > plate.front:T > plate.back:T > screen"
     M = r.mueller("screen", sig)
     lam = 632.8e-9
-    n, na = sellmeier(0.6328, (0.6961663, 0.4079426, 0.8974794),
-                      (0.0684043**2, 0.1162414**2, 9.896161**2)), ciddor(0.6328)
+    na = ciddor(0.6328)
+    n = sellmeier(0.6328, (0.6961663, 0.4079426, 0.8974794),
+                  (0.0684043**2, 0.1162414**2, 9.896161**2)) * na  # relative to air -> absolute
     th = math.radians(tilt)
     th2 = math.asin(na * math.sin(th) / n)
     Ts = tmm_T([na, n], [INF, INF], th, lam, "s") * tmm_T([n, na], [INF, INF], th2, lam, "s")

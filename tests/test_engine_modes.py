@@ -99,7 +99,7 @@ def test_ledger_closes_on_random_scenes(n_solids, seed, treatments, kappa, thres
         faces = {names[j]: treatments[(i + j) % 6] for j in range(6) if rng.uniform() < 0.4}
         from tracer.materials.models import ConstantIndex
 
-        mat = ConstantIndex(rng.uniform(1.3, 2.0) + 1j * kappa, name="m")
+        mat = ConstantIndex(rng.uniform(1.3, 2.0) + 1j * kappa, name="m", index_basis="vacuum")
         solids.append(solid(f"s{i}", g, faces=faces, material=mat))
     sc = scene(
         solids=solids,

@@ -245,7 +245,7 @@ def test_bulk_absorption_beer_lambert():
     # Beer-Lambert attenuation exp(-alpha L), alpha = 4 pi kappa / lambda (Hecht, Optics,
     # 5th ed., 2017, sec. 4.8), booked in the solid's bulk.
     kappa, t, wl = 2e-7, 5e-3, 550e-9
-    mat = ConstantIndex(1.5 + 1j * kappa, name="lossy")
+    mat = ConstantIndex(1.5 + 1j * kappa, name="lossy", index_basis="vacuum")
     sc = plate_scene(thickness=t)
     sc.solids["plate"] = solid("plate", sc.solids["plate"].geometry, material=mat)
     res = trace(sc)

@@ -34,7 +34,8 @@ def add_arguments(parser) -> None:
                         help="prism material: catalog name, glass:NNNVVV or an index such as "
                              "1.5168 (default: glass:517642)")
     parser.add_argument("--gap", default="air", metavar="MATERIAL",
-                        help="gap medium: catalog name or an index (default: air)")
+                        help="gap medium: catalog name or an index (default: air); "
+                             "indices are relative to air, as glass catalogs quote them")
     parser.add_argument("--angle", default="45 deg", metavar="ANGLE",
                         help="angle of incidence inside the prism, from the normal, 0 to 90 deg "
                              "(default: 45 deg)")
@@ -47,10 +48,16 @@ def add_arguments(parser) -> None:
 
 
 def _index(text: str, wavelength: float, option: str) -> tuple[complex, str]:
+    """Absolute index of a material name, or of a number read as relative to air (as a
+    scene's inline materials and glass catalogs are; tracer.materials.basis)."""
     try:
-        return complex(float(text)), text
+        value = float(text)
     except ValueError:
         pass
+    else:
+        from ..materials.basis import standard_air_index
+
+        return complex(value * float(standard_air_index(wavelength))), text
     from .. import materials
 
     try:
@@ -116,7 +123,11 @@ def run(args) -> int:
     table.update(prism=prism_name, gap=gap_name, n_prism=[n_prism.real, n_prism.imag],
                  n_gap=[n_gap.real, n_gap.imag], angle_deg=math.degrees(angle), wavelength_m=wavelength)
 
-    print(f"prism {prism_name} (n = {n_prism.real:.5f}) | gap {gap_name} (n = {n_gap.real:.5f}) | prism")
+    from ..materials.basis import standard_air_index
+
+    n_air = float(standard_air_index(wavelength))
+    print(f"prism {prism_name} (n = {n_prism.real / n_air:.5f}) | gap {gap_name} "
+          f"(n = {n_gap.real / n_air:.5f}) | prism   [indices relative to air]")
     print(f"angle of incidence {math.degrees(angle):.3f} deg, wavelength {units.format_length(wavelength)}")
     if math.isnan(table["critical_angle_deg"]):
         print("no critical angle (gap medium is denser than the prism)")

@@ -6,7 +6,7 @@ returning complex ``n + i*kappa`` (vacuum wavelength [m], broadcast), and attrib
 for the model classes and :mod:`tracer.materials.catalog` for the named materials.
 
 >>> from tracer import materials
->>> round(float(materials.get("caf2").refractive_index(587.6e-9).real), 4)
+>>> round(float(materials.get("caf2").relative_index(587.6e-9).real), 4)  # as quoted, relative to air
 1.4338
 """
 

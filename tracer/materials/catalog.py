@@ -46,7 +46,7 @@ Examples
 >>> m = get("Fused Silica")
 >>> m.name
 'fused-silica'
->>> round(float(m.refractive_index(1064e-9).real), 4)
+>>> round(float(m.relative_index(1064e-9).real), 4)
 1.4496
 >>> get("glass:517642").name
 'glass:517642'
@@ -204,7 +204,8 @@ def _air_radio():
 
 
 def _vacuum():
-    return ConstantIndex(1.0, name="vacuum", reference="vacuum, n = 1 exactly")
+    return ConstantIndex(1.0, name="vacuum", reference="vacuum, n = 1 exactly",
+                         index_basis="vacuum")
 
 
 def _generic(name: str, code: str):
@@ -218,7 +219,8 @@ def _microwave_dielectric():
         1.44, name="microwave-dielectric-1.44", valid_range=(1e-3, 1.0),
         reference=("invented typical low-loss microwave dielectric, n = 1.44 (eps_r = "
                    "2.0736, close to that of PTFE; common practice, no source), lossless; "
-                   "valid 1 mm-1 m; for loss use ConstantIndex.from_loss_tangent"))
+                   "valid 1 mm-1 m; for loss use ConstantIndex.from_loss_tangent"),
+        index_basis="vacuum")  # from a permittivity: absolute
 
 
 def _cement():

@@ -80,7 +80,7 @@ _TA2O5 = """
 
 def tantala_film() -> Tabulated:
     """Ta2O5 coating layer (ion-assisted e-beam), Gao et al. 2012 [1], 0.35-1.5 um."""
-    return Tabulated(*table(_TA2O5), name="ta2o5-film", reference=(
+    return Tabulated(*table(_TA2O5), name="ta2o5-film", index_basis="vacuum", reference=(
         "L. Gao, F. Lemarchand and M. Lequime, Exploitation of multiple incidences "
         "spectrometric measurements for thin film reverse engineering, Opt. Express 20, "
         "15734-15751 (2012); ion-assisted e-beam Ta2O5 film, tabulated n, k (subset of "

@@ -191,7 +191,7 @@ def table(text: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 def silver() -> Tabulated:
     """Silver, Johnson and Christy 1972 [1], 0.1879-1.937 um."""
-    return Tabulated(*table(_SILVER), name="silver", reference=(
+    return Tabulated(*table(_SILVER), name="silver", index_basis="vacuum", reference=(
         "P. B. Johnson and R. W. Christy, Optical constants of the noble metals, "
         "Phys. Rev. B 6, 4370-4379 (1972); tabulated n, k (evaporated film, room "
         "temperature), linear interpolation"))
@@ -199,7 +199,7 @@ def silver() -> Tabulated:
 
 def gold() -> Tabulated:
     """Gold, Johnson and Christy 1972 [1], 0.1879-1.937 um."""
-    return Tabulated(*table(_GOLD), name="gold", reference=(
+    return Tabulated(*table(_GOLD), name="gold", index_basis="vacuum", reference=(
         "P. B. Johnson and R. W. Christy, Optical constants of the noble metals, "
         "Phys. Rev. B 6, 4370-4379 (1972); tabulated n, k (evaporated film, room "
         "temperature), linear interpolation"))
@@ -207,7 +207,7 @@ def gold() -> Tabulated:
 
 def aluminium() -> Tabulated:
     """Aluminium, Rakić 1995 [2], 0.2066-12.4 um."""
-    return Tabulated(*table(_ALUMINIUM), name="aluminium", reference=(
+    return Tabulated(*table(_ALUMINIUM), name="aluminium", index_basis="vacuum", reference=(
         "A. D. Rakić, Algorithm for the determination of intrinsic optical constants of "
         "metal films: application to aluminum, Appl. Opt. 34, 4755-4767 (1995); "
         "tabulated n, k (evaporated film), linear interpolation"))

@@ -30,7 +30,7 @@ Examples
 >>> m = Sellmeier(B=(0.6961663, 0.4079426, 0.8974794),
 ...               C=(0.0684043**2, 0.1162414**2, 9.896161**2),
 ...               name="silica", valid_range=(0.21e-6, 3.71e-6), reference="Malitson 1965")
->>> round(float(m.refractive_index(587.6e-9).real), 4)
+>>> round(float(m.relative_index(587.6e-9).real), 4)  # as published: relative to air
 1.4585
 >>> m.refractive_index([500e-9, 600e-9]).shape
 (2,)
@@ -95,12 +95,27 @@ class IndexModel:
     reference : str
         Published source (author, title, journal, year) or an honest statement of
         where the numbers come from.
+    index_basis : {"air", "vacuum"}
+        What the formula gives: the index relative to standard air (``"air"``, the
+        convention of glass catalogs and glass codes) or the absolute index
+        (``"vacuum"``). :meth:`refractive_index` always returns the absolute index
+        (an air-referenced value times the index of standard air,
+        :mod:`tracer.materials.basis`); :meth:`relative_index` the one relative to air.
     """
 
     #: Appended to range errors to point at a better material (e.g. radio-wave air).
     _range_hint = ""
+    #: Default basis of the model's formula: ``"air"`` (relative to standard air, as glass
+    #: catalogs and glass codes quote it) or ``"vacuum"`` (absolute: gases, vacuum).
+    default_basis = "air"
 
-    def __init__(self, *, name: str, valid_range: tuple[float, float], reference: str):
+    def __init__(self, *, name: str, valid_range: tuple[float, float], reference: str,
+                 index_basis: str | None = None):
+        basis = self.default_basis if index_basis is None else index_basis
+        if basis not in ("air", "vacuum"):
+            raise MaterialError(f"material {name!r}: index_basis must be 'air' or 'vacuum', "
+                                f"got {index_basis!r}")
+        self.index_basis = basis
         lo, hi = (float(valid_range[0]), float(valid_range[1]))
         if not (lo >= 0.0 and hi > lo):
             raise MaterialError(
@@ -149,7 +164,11 @@ class IndexModel:
             )
 
     def refractive_index(self, wavelength, *, extrapolate: bool = False) -> np.ndarray:
-        """Complex refractive index n + i*kappa at vacuum wavelength(s).
+        """Absolute complex refractive index n + i*kappa at vacuum wavelength(s).
+
+        An air-referenced model (``index_basis == "air"``) is multiplied by the index of
+        standard air at the same wavelength, so that every medium of a trace shares one
+        basis: a catalog glass in ``air`` meets the index ratio the catalog quotes.
 
         Parameters
         ----------
@@ -167,14 +186,44 @@ class IndexModel:
         tracer.errors.RangeError
             A wavelength outside ``valid_range`` and ``extrapolate`` is False.
         """
+        out = self.published_index(wavelength, extrapolate=extrapolate)
+        if self.index_basis == "air":
+            from .basis import standard_air_index
+
+            out = np.asarray(out * standard_air_index(np.asarray(wavelength, dtype=float)),
+                             dtype=np.complex128).reshape(out.shape)
+        return out
+
+    __call__ = refractive_index
+
+    def relative_index(self, wavelength, *, extrapolate: bool = False) -> np.ndarray:
+        """Complex index relative to standard air (the value glass catalogs quote) [1].
+
+        Parameters as :meth:`refractive_index`.
+
+        Examples
+        --------
+        >>> m = ConstantIndex(1.5, name="n15")
+        >>> float(m.relative_index(5e-7).real), round(float(m.refractive_index(5e-7).real), 5)
+        (1.5, 1.50042)
+        """
+        out = self.published_index(wavelength, extrapolate=extrapolate)
+        if self.index_basis == "vacuum":
+            from .basis import standard_air_index
+
+            out = np.asarray(out / standard_air_index(np.asarray(wavelength, dtype=float)),
+                             dtype=np.complex128).reshape(out.shape)
+        return out
+
+    def published_index(self, wavelength, *, extrapolate: bool = False) -> np.ndarray:
+        """The model's formula at ``wavelength`` [m], in its own ``index_basis`` [1]:
+        the value its source tabulates (relative to air for glasses, absolute for gases)."""
         wl = np.asarray(wavelength, dtype=float)
         if not extrapolate:
             self.check_range(wl)
         with np.errstate(invalid="ignore", divide="ignore"):
             out = np.asarray(self._evaluate(wl), dtype=np.complex128)
         return np.broadcast_to(out, wl.shape).copy() if out.shape != wl.shape else out
-
-    __call__ = refractive_index
 
     def _evaluate(self, wavelength: np.ndarray) -> np.ndarray:  # pragma: no cover
         raise NotImplementedError
@@ -199,8 +248,9 @@ class ConstantIndex(IndexModel):
 
     def __init__(self, n: complex, *, name: str = "constant",
                  valid_range: tuple[float, float] = (0.0, math.inf),
-                 reference: str = "constant index (user value)"):
-        super().__init__(name=name, valid_range=valid_range, reference=reference)
+                 reference: str = "constant index (user value)", index_basis: str | None = None):
+        super().__init__(name=name, valid_range=valid_range, reference=reference,
+                         index_basis=index_basis)
         value = complex(n)
         if not (math.isfinite(value.real) and math.isfinite(value.imag)) or value.real <= 0:
             raise MaterialError(f"material {name!r}: index must be finite with a positive real "
@@ -252,8 +302,10 @@ class Cauchy(IndexModel):
 
     def __init__(self, A: float, B: float = 0.0, C: float = 0.0, *, kappa: float = 0.0,
                  name: str = "cauchy", valid_range: tuple[float, float] = (0.3e-6, 2.5e-6),
-                 reference: str = "Cauchy formula (user coefficients)"):
-        super().__init__(name=name, valid_range=valid_range, reference=reference)
+                 reference: str = "Cauchy formula (user coefficients)",
+                 index_basis: str | None = None):
+        super().__init__(name=name, valid_range=valid_range, reference=reference,
+                         index_basis=index_basis)
         self.A, self.B, self.C, self.kappa = float(A), float(B), float(C), float(kappa)
         if self.kappa < 0:
             raise MaterialError(f"material {name!r}: kappa must be >= 0, got {kappa!r}")
@@ -290,8 +342,10 @@ class Sellmeier(IndexModel):
 
     def __init__(self, B, C, *, A: float = 1.0, name: str = "sellmeier",
                  valid_range: tuple[float, float] = (0.0, math.inf),
-                 reference: str = "Sellmeier formula (user coefficients)"):
-        super().__init__(name=name, valid_range=valid_range, reference=reference)
+                 reference: str = "Sellmeier formula (user coefficients)",
+                 index_basis: str | None = None):
+        super().__init__(name=name, valid_range=valid_range, reference=reference,
+                         index_basis=index_basis)
         self.B = tuple(float(b) for b in B)
         self.C = tuple(float(c) for c in C)
         self.A = float(A)
@@ -326,13 +380,14 @@ class Tabulated(IndexModel):
 
     Examples
     --------
-    >>> t = Tabulated([500e-9, 600e-9], [1.0, 2.0], [3.0, 5.0], name="t", reference="test")
+    >>> t = Tabulated([500e-9, 600e-9], [1.0, 2.0], [3.0, 5.0], name="t", reference="test",
+    ...               index_basis="vacuum")
     >>> t.refractive_index(550e-9)
     array(1.5+4.j)
     """
 
     def __init__(self, wavelength, n, kappa=None, *, name: str = "table",
-                 reference: str = "tabulated n, k (user values)"):
+                 reference: str = "tabulated n, k (user values)", index_basis: str | None = None):
         wl = np.asarray(wavelength, dtype=float)
         nn = np.asarray(n, dtype=float)
         kk = np.zeros_like(nn) if kappa is None else np.asarray(kappa, dtype=float)
@@ -342,7 +397,8 @@ class Tabulated(IndexModel):
             raise MaterialError(f"material {name!r}: table wavelengths must increase strictly")
         if np.any(kk < 0) or np.any(nn <= 0) or not np.all(np.isfinite(np.r_[wl, nn, kk])):
             raise MaterialError(f"material {name!r}: n must be > 0 and kappa >= 0, finite")
-        super().__init__(name=name, valid_range=(wl[0], wl[-1]), reference=reference)
+        super().__init__(name=name, valid_range=(wl[0], wl[-1]), reference=reference,
+                         index_basis=index_basis)
         self.wavelengths, self.n, self.kappa = wl, nn, kk
 
     def _evaluate(self, wavelength):
@@ -407,6 +463,8 @@ class CiddorAir(IndexModel):
     _W = (295.235, 2.6422, -0.032380, 0.004028)
     _R = 8.314510
     _MW = 0.018015
+
+    default_basis = "vacuum"  # absolute index
 
     def __init__(self, *, temperature: float = 288.15, pressure: float = 101325.0,
                  humidity: float = 0.0, co2: float = 450e-6, name: str = "air"):
@@ -498,6 +556,8 @@ class RadioAir(IndexModel):
     [2] ITU-R Recommendation P.453, "The radio refractive index: its formula and
         refractivity data".
     """
+
+    default_basis = "vacuum"  # absolute index
 
     def __init__(self, *, temperature: float = 288.15, pressure: float = 101325.0,
                  name: str = "air-radio"):

@@ -9,7 +9,9 @@ Models (``model = ...``): ``constant`` (``n``, optional ``k`` or ``loss_tangent`
 ``B`` and ``C`` [um^2], optional ``A`` = 1), ``table`` (``wavelengths``, ``n``,
 optional ``k``), ``glass-code`` (``code = "517642"``), ``catalog`` (``name``: an alias
 of a catalog material). Common keys: ``valid_range = ["400 nm", "700 nm"]`` and
-``reference``.
+``reference``; the formula models also take ``index_basis`` (``"air"``, the default: the
+values are relative to air, as glass catalogs quote them; ``"vacuum"``: absolute
+indices, e.g. from a permittivity; :mod:`tracer.materials.basis`).
 """
 
 from __future__ import annotations
@@ -42,8 +44,9 @@ def read_material(name: str, t: Table, build: Build):
         t.error("valid_range", "expected [shortest, longest] wavelengths, in increasing order")
         vr = None
     bad_range = t.has("valid_range") and vr is None
+    basis = t.string("index_basis", default="air", choices=("air", "vacuum"))
     mats = _catalog()
-    kwargs = {"name": name, "reference": reference or ""}
+    kwargs = {"name": name, "reference": reference or "", "index_basis": basis or "air"}
     out = None
     try:
         if model == "constant":
@@ -94,6 +97,8 @@ def read_material(name: str, t: Table, build: Build):
                 else:
                     out = mats.Tabulated(wl, n, k, **kwargs)
         elif model == "glass-code":
+            if t.has("index_basis") and "index_basis" in t.data:
+                t.error("index_basis", "a glass code gives n_d relative to air by definition")
             raw = t.raw("code")
             if raw is None:
                 t.error(None, 'missing key "code": expected a six-digit glass code such as "517642"')
@@ -115,7 +120,7 @@ def read_material(name: str, t: Table, build: Build):
                         out = mats.get(ref)
                     except TracerError as exc:
                         t.error("name", str(exc))
-            for bad in ("valid_range", "reference"):
+            for bad in ("valid_range", "reference", "index_basis"):
                 if t.has(bad) and bad in t.data:
                     t.error(bad, "a catalog alias takes range and reference from the catalog")
     except TracerError as exc:
