@@ -48,7 +48,9 @@ def _noop(x):
     import tracer.engine  # noqa: F401
     import tracer.scene  # noqa: F401
     import tracer.sweep.runner  # noqa: F401
+    from tracer.engine.warm import warm_up
 
+    warm_up()  # the pool's initializer has done it; a no-op here
     return x
 
 

@@ -5,7 +5,7 @@ Three kernels, each the fused equivalent of a group of numpy passes in
 is false):
 
 * :func:`frame` -- the normal facing the second medium, ``cos(theta_1)`` and the s unit
-  vector (``normalise(k x n)``; rows at normal incidence are flagged for the general
+  vector (``normalise(k x n)``, at normal incidence the fixed choice of
   :func:`tracer.polarization.sp_basis`);
 * :func:`waves` -- reflected and refracted directions (vector Snell law), the field's
   s and p amplitudes, their powers through the source coherency and the children's
@@ -53,8 +53,22 @@ def _frame(k, face_normal, face, inside, nhat, cos1, s, flag):
         kn = math.sqrt(kx * kx + ky * ky + kz * kz)
         scale = kn * math.sqrt(n0 * n0 + n1 * n1 + n2 * n2)
         if ns < NORMAL_INCIDENCE_SIN * scale:
-            flag[i] = True
-            ns = 1.0
+            # normal incidence: s = normalise(k x e), e the world axis least aligned with
+            # k (lowest index on ties), as tracer.polarization.sp_basis
+            ax = 0
+            m = abs(kx)
+            if abs(ky) < m:
+                ax = 1
+                m = abs(ky)
+            if abs(kz) < m:
+                ax = 2
+            e0 = 1.0 if ax == 0 else 0.0
+            e1 = 1.0 if ax == 1 else 0.0
+            e2 = 1.0 if ax == 2 else 0.0
+            s0 = ky * e2 - kz * e1
+            s1 = kz * e0 - kx * e2
+            s2 = kx * e1 - ky * e0
+            ns = math.sqrt(s0 * s0 + s1 * s1 + s2 * s2)
         s[i, 0] = s0 / ns
         s[i, 1] = s1 / ns
         s[i, 2] = s2 / ns
@@ -81,9 +95,10 @@ def frame(k, face_normal, face, inside):
     cos1 : (N,) float [1]
         ``k . nhat`` clipped to [0, 1].
     s : (N, 3) float [1]
-        ``normalise(k x nhat)``; undefined (unnormalised) where ``normal`` is true.
+        ``normalise(k x nhat)``, or at normal incidence ``normalise(k x e)`` with ``e``
+        the world axis least aligned with ``k``.
     normal : (N,) bool
-        Normal incidence: the caller sets ``s`` from the general basis.
+        Rays the caller must still complete (none: kept for the signature).
     """
     n = len(face)
     nhat = np.empty((n, 3))

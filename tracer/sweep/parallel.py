@@ -228,7 +228,8 @@ class ProcessBackend:
             from concurrent.futures import ProcessPoolExecutor
 
             ctx = multiprocessing.get_context(self.start_method)
-            self._pool = ProcessPoolExecutor(max_workers=self.workers, mp_context=ctx)
+            self._pool = ProcessPoolExecutor(max_workers=self.workers, mp_context=ctx,
+                                             initializer=_start_worker)
         return self._pool
 
     def map(self, fn, tasks, *, label="", progress=None):
@@ -281,6 +282,13 @@ def _import_distributed():
         raise ParallelError("the Dask backend needs the optional dependency dask[distributed]: "
                             "pip install 'tracer[dask]'") from exc
     return distributed
+
+
+def _start_worker():
+    """Worker start-up: load the engine's compiled kernels once, before any task."""
+    from ..engine.warm import warm_up
+
+    warm_up()
 
 
 class DaskBackend:
