@@ -15,24 +15,10 @@ from __future__ import annotations
 import numpy as np
 
 from .batch import RayBatch
+from .interface_kernel import field_column
 from .jit import njit
 
 __all__ = ["assemble"]
-
-
-@njit
-def _column(s0, s1, s2, p0, p1, p2, amp_s, amp_p, a_s, a_p, g, use_gain):
-    # scalars only: array arguments to a helper cost reference counting per call
-    cs = amp_s * a_s
-    cp = amp_p * a_p
-    e0 = complex(s0 * cs.real + p0 * cp.real, s0 * cs.imag + p0 * cp.imag)
-    e1 = complex(s1 * cs.real + p1 * cp.real, s1 * cs.imag + p1 * cp.imag)
-    e2 = complex(s2 * cs.real + p2 * cp.real, s2 * cs.imag + p2 * cp.imag)
-    if use_gain:
-        e0 = complex(e0.real * g, e0.imag * g)
-        e1 = complex(e1.real * g, e1.imag * g)
-        e2 = complex(e2.real * g, e2.imag * g)
-    return e0, e1, e2
 
 
 @njit
@@ -42,67 +28,50 @@ def _assemble(ii, pos, t_origin, r_dir, t_dir, s, a_s, a_p, r_amp_s, r_amp_p, t_
               o_origin, o_dir, o_wl, o_wli, o_field, o_power, o_medium, o_node, o_events,
               o_last, o_root, o_opl):
     nr = kl_r.shape[0]
-    for m in range(nr):
-        i = kl_r[m]
+    for o in range(nr + kl_t.shape[0]):
+        reflected = o < nr
+        m = o if reflected else o - nr
+        # the child's own quantities (scalars: no array views per ray)
+        if reflected:
+            i = kl_r[m]
+            x0, x1, x2 = pos[i, 0], pos[i, 1], pos[i, 2]
+            d0, d1, d2 = r_dir[i, 0], r_dir[i, 1], r_dir[i, 2]
+            amp_s, amp_p, pw, node = r_amp_s[i], r_amp_p[i], pow_r[m], node_r[m]
+            g = gain_r[i] if use_gain else 1.0
+            med, last = medium[ii[i]], fi[i]
+        else:
+            i = kl_t[m]
+            x0, x1, x2 = t_origin[i, 0], t_origin[i, 1], t_origin[i, 2]
+            d0, d1, d2 = t_dir[i, 0], t_dir[i, 1], t_dir[i, 2]
+            amp_s, amp_p, pw, node = t_amp_s[i], t_amp_p[i], pow_t[m], node_t[m]
+            g = gain_t[i] if use_gain else 1.0
+            med, last = t_medium[i], t_face[i]
         j = ii[i]
-        for a in range(3):
-            o_origin[m, a] = pos[i, a]
-            o_dir[m, a] = r_dir[i, a]
-        g = gain_r[i] if use_gain else 1.0
+        o_origin[o, 0] = x0
+        o_origin[o, 1] = x1
+        o_origin[o, 2] = x2
+        o_dir[o, 0] = d0
+        o_dir[o, 1] = d1
+        o_dir[o, 2] = d2
         s0 = s[i, 0]
         s1 = s[i, 1]
         s2 = s[i, 2]
-        d0 = r_dir[i, 0]
-        d1 = r_dir[i, 1]
-        d2 = r_dir[i, 2]
         p0 = d1 * s2 - d2 * s1  # p_out = d x s
         p1 = d2 * s0 - d0 * s2
         p2 = d0 * s1 - d1 * s0
         for col in range(2):
-            e0, e1, e2 = _column(s0, s1, s2, p0, p1, p2, r_amp_s[i], r_amp_p[i],
-                                 a_s[i, col], a_p[i, col], g, use_gain)
-            o_field[m, 0, col] = e0
-            o_field[m, 1, col] = e1
-            o_field[m, 2, col] = e2
-        o_wl[m] = wavelength[j]
-        o_wli[m] = wl_index[j]
-        o_power[m] = pow_r[m]
-        o_medium[m] = medium[j]
-        o_node[m] = node_r[m]
-        o_events[m] = ev[i]
-        o_last[m] = fi[i]
-        o_root[m] = root[j]
-        o_opl[m] = opl[j]
-    for m in range(kl_t.shape[0]):
-        i = kl_t[m]
-        j = ii[i]
-        o = nr + m
-        for a in range(3):
-            o_origin[o, a] = t_origin[i, a]
-            o_dir[o, a] = t_dir[i, a]
-        g = gain_t[i] if use_gain else 1.0
-        s0 = s[i, 0]
-        s1 = s[i, 1]
-        s2 = s[i, 2]
-        d0 = t_dir[i, 0]
-        d1 = t_dir[i, 1]
-        d2 = t_dir[i, 2]
-        p0 = d1 * s2 - d2 * s1  # p_out = d x s
-        p1 = d2 * s0 - d0 * s2
-        p2 = d0 * s1 - d1 * s0
-        for col in range(2):
-            e0, e1, e2 = _column(s0, s1, s2, p0, p1, p2, t_amp_s[i], t_amp_p[i],
-                                 a_s[i, col], a_p[i, col], g, use_gain)
+            e0, e1, e2 = field_column(s0, s1, s2, p0, p1, p2, amp_s, amp_p, a_s[i, col],
+                                      a_p[i, col], g, use_gain)
             o_field[o, 0, col] = e0
             o_field[o, 1, col] = e1
             o_field[o, 2, col] = e2
         o_wl[o] = wavelength[j]
         o_wli[o] = wl_index[j]
-        o_power[o] = pow_t[m]
-        o_medium[o] = t_medium[i]
-        o_node[o] = node_t[m]
+        o_power[o] = pw
+        o_medium[o] = med
+        o_node[o] = node
         o_events[o] = ev[i]
-        o_last[o] = t_face[i]
+        o_last[o] = last
         o_root[o] = root[j]
         o_opl[o] = opl[j]
 

@@ -27,7 +27,7 @@ import numpy as np
 from ..tolerances import NORMAL_INCIDENCE_SIN
 from .jit import njit
 
-__all__ = ["frame", "waves", "child_fields"]
+__all__ = ["frame", "waves", "child_fields", "field_column"]
 
 
 @njit
@@ -229,6 +229,24 @@ def waves(k, nhat, cos1, ratio, s, field, coherency, root, Rs, Rp, Ts, Tp, power
 
 
 @njit
+def field_column(s0, s1, s2, p0, p1, p2, amp_s, amp_p, a_s, a_p, g, use_gain):
+    """One field-matrix column ``s (amp_s a_s) + p (amp_p a_p)`` times a real gain.
+
+    Scalars only: array arguments to a helper cost reference counting per call.
+    """
+    cs = amp_s * a_s
+    cp = amp_p * a_p
+    e0 = complex(s0 * cs.real + p0 * cp.real, s0 * cs.imag + p0 * cp.imag)
+    e1 = complex(s1 * cs.real + p1 * cp.real, s1 * cs.imag + p1 * cp.imag)
+    e2 = complex(s2 * cs.real + p2 * cp.real, s2 * cs.imag + p2 * cp.imag)
+    if use_gain:
+        e0 = complex(e0.real * g, e0.imag * g)
+        e1 = complex(e1.real * g, e1.imag * g)
+        e2 = complex(e2.real * g, e2.imag * g)
+    return e0, e1, e2
+
+
+@njit
 def _child_fields(s, d, a_s, a_p, amp_s, amp_p, index, out):
     for m in range(index.shape[0]):
         i = index[m]
@@ -243,11 +261,11 @@ def _child_fields(s, d, a_s, a_p, amp_s, amp_p, index, out):
         p1 = d2 * s0 - d0 * s2
         p2 = d0 * s1 - d1 * s0
         for col in range(2):
-            cs = amp_s[i] * a_s[i, col]
-            cp = amp_p[i] * a_p[i, col]
-            out[m, 0, col] = complex(s0 * cs.real + p0 * cp.real, s0 * cs.imag + p0 * cp.imag)
-            out[m, 1, col] = complex(s1 * cs.real + p1 * cp.real, s1 * cs.imag + p1 * cp.imag)
-            out[m, 2, col] = complex(s2 * cs.real + p2 * cp.real, s2 * cs.imag + p2 * cp.imag)
+            e0, e1, e2 = field_column(s0, s1, s2, p0, p1, p2, amp_s[i], amp_p[i], a_s[i, col],
+                                      a_p[i, col], 1.0, False)
+            out[m, 0, col] = e0
+            out[m, 1, col] = e1
+            out[m, 2, col] = e2
 
 
 def child_fields(s, d, a_s, a_p, amp_s, amp_p, index):
