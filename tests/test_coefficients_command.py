@@ -17,6 +17,9 @@ def test_table_matches_tmm(tmp_path, capsys):
                "--wavelength", "633 nm", "--thickness", "0 um", "1 um", "5", "--json", str(out)])
     assert rc == 0
     table = json.loads(out.read_text())
+    # typed indices are relative to air; the JSON gives both views
+    assert table["n_prism_relative_to_air"][0] == pytest.approx(1.5, rel=1e-15)
+    assert table["n_prism"][0] == pytest.approx(1.5 * float(standard_air_index(633e-9)), rel=1e-15)
     for d, rs, rp, ts, tp in zip(table["thickness_m"], table["Rs"], table["Rp"], table["Ts"], table["Tp"]):
         for pol, r_val, t_val in (("s", rs, ts), ("p", rp, tp)):
             # the indices typed are relative to air: absolute = value x n_air (Ciddor)

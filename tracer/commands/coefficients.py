@@ -120,12 +120,16 @@ def run(args) -> int:
     n_gap, gap_name = _index(args.gap, wavelength, "--gap")
     table = gap_table(n_prism=n_prism, n_gap=n_gap, angle=angle, wavelength=wavelength,
                       thickness=np.linspace(start, stop, count))
-    table.update(prism=prism_name, gap=gap_name, n_prism=[n_prism.real, n_prism.imag],
-                 n_gap=[n_gap.real, n_gap.imag], angle_deg=math.degrees(angle), wavelength_m=wavelength)
-
     from ..materials.basis import standard_air_index
 
     n_air = float(standard_air_index(wavelength))
+    table.update(prism=prism_name, gap=gap_name, n_prism=[n_prism.real, n_prism.imag],
+                 n_gap=[n_gap.real, n_gap.imag],
+                 n_prism_relative_to_air=[n_prism.real / n_air, n_prism.imag / n_air],
+                 n_gap_relative_to_air=[n_gap.real / n_air, n_gap.imag / n_air],
+                 index_basis="n_prism, n_gap: absolute; *_relative_to_air: as printed",
+                 angle_deg=math.degrees(angle), wavelength_m=wavelength)
+
     print(f"prism {prism_name} (n = {n_prism.real / n_air:.5f}) | gap {gap_name} "
           f"(n = {n_gap.real / n_air:.5f}) | prism   [indices relative to air]")
     print(f"angle of incidence {math.degrees(angle):.3f} deg, wavelength {units.format_length(wavelength)}")
