@@ -306,3 +306,35 @@ def test_labels_name_the_source_when_there_are_several():
     # two equal sources: the total source power is 2 W and each direct path carries T^2 / 2
     R = fresnel_normal_R(1.5)
     assert t.rows[0].fraction == pytest.approx((1 - R) ** 2 / 2, rel=1e-9)
+
+
+def test_corner_cube_sub_aperture_paths_are_design_signal_not_ghosts():
+    # A corner cube returns light by its three reflectors in any of six orders, one per
+    # sub-aperture; all six orders are the retroreflection the part is built for (common
+    # practice, no source). They share the faces and events of the design path, so they
+    # are equivalent to it; a path with a partial reflection is not.
+    from pathlib import Path
+
+    from tracer.scene import load
+
+    sc = load(Path(__file__).resolve().parents[1] / "scenes" / "corner_cube_retroreflector.toml")
+    res = trace(sc, progress=False)
+    t = ghost_table(res, "return")
+    retro = [r for r in t.rows if r.reflections == 3 and ":R" not in r.label]  # TIR only
+    assert len(retro) == 6
+    assert all(not r.ghost for r in retro) and sum(r.design for r in retro) == 1
+    assert t.design_group_power_w == pytest.approx(sum(r.power_w for r in retro), rel=1e-12)
+    ghosts = [r for r in t.rows if r.ghost]
+    assert all(":R" in r.label or r.reflections != 3 for r in ghosts)
+    assert t.ghost_power_w == pytest.approx(sum(r.power_w for r in ghosts), rel=1e-12, abs=0)
+    d = t.to_dict()
+    assert d["design_group_paths"] == 6
+    assert sum(p["equivalent_to_design"] for p in d["paths"]) == 5
+    assert "equivalent to the design path" in t.format_text()
+
+
+def test_plate_ghosts_are_not_equivalent_to_the_direct_path():
+    res = trace(plate_scene(), progress=False)
+    t = ghost_table(res, "camera")
+    assert len(t.rows) >= 3 and not any(r.equivalent for r in t.rows)
+    assert t.design_group_power_w == t.design_power_w

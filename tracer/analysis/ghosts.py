@@ -7,10 +7,14 @@ number of reflections (partial and total), where the path lands on the detector
 (power-weighted centroid and RMS radius in the detector's x, y frame) and its degree of
 polarisation.
 
-The design path
----------------
-The *design path* of a detector is the path the system is built for; every other path
-on that detector is a ghost. It is chosen as follows:
+The design path and its group
+-----------------------------
+The *design path* of a detector is the path the system is built for. Paths that meet
+exactly the same faces with the same events, in another order, are *equivalent* to it:
+the sub-aperture paths of a corner cube (its three reflectors in any of six orders) or
+of a roof, which the beam takes by design. The design path and its equivalents form the
+*design group*, whose power is the design signal; every other path on the detector is a
+ghost. The design path is chosen as follows:
 
 1. when the scene declares a sequence (``[trace] sequence``), the strongest path whose
    faces are exactly the declared faces, in order (a ``:T`` / ``:R`` suffix on an entry
@@ -90,6 +94,9 @@ class GhostRow:
         Degree of polarisation of the path's summed Stokes vector.
     design : bool
         True for the design path.
+    equivalent : bool
+        True for a path equivalent to the design path (same faces and events in another
+        order: part of the design signal, not a ghost).
     """
 
     rank: int
@@ -104,6 +111,12 @@ class GhostRow:
     rms_radius: float | None
     dop: float | None
     design: bool
+    equivalent: bool = False
+
+    @property
+    def ghost(self) -> bool:
+        """Neither the design path nor equivalent to it."""
+        return not (self.design or self.equivalent)
 
     def to_dict(self) -> dict:
         return dict(
@@ -113,6 +126,7 @@ class GhostRow:
             centroid_m=None if self.centroid is None else [float(c) for c in self.centroid],
             rms_radius_m=finite_or_none(self.rms_radius),
             degree_of_polarization=finite_or_none(self.dop), design=self.design,
+            equivalent_to_design=self.equivalent,
         )
 
     def spot_cells(self) -> list[str]:
@@ -158,18 +172,24 @@ class GhostTable:
 
     @property
     def design_power_w(self) -> float:
+        """Power of the design path alone [W]."""
         d = self.design
         return d.power_w if d is not None else 0.0
 
     @property
+    def design_group_power_w(self) -> float:
+        """Power of the design path and its equivalents: the design signal [W]."""
+        return float(sum(r.power_w for r in self.rows if not r.ghost))
+
+    @property
     def ghost_power_w(self) -> float:
-        """Power of every path but the design path [W]."""
-        return float(sum(r.power_w for r in self.rows if not r.design))
+        """Power of every path outside the design group [W]."""
+        return float(sum(r.power_w for r in self.rows if r.ghost))
 
     @property
     def ghost_fraction(self) -> float:
-        """Ghost power over design power [1] (inf when there is no design signal)."""
-        d = self.design_power_w
+        """Ghost power over the design signal [1] (inf when there is no design signal)."""
+        d = self.design_group_power_w
         g = self.ghost_power_w
         if d > 0:
             return g / d
@@ -177,7 +197,7 @@ class GhostTable:
 
     @property
     def strongest_ghost(self) -> GhostRow | None:
-        return next((r for r in self.rows if not r.design), None)
+        return next((r for r in self.rows if r.ghost), None)
 
     # ------------------------------------------------------------ outputs
     def to_dict(self, limit: int | None = None) -> dict:
@@ -188,7 +208,10 @@ class GhostTable:
             fraction=self.power_w / self.source_power_w if self.source_power_w else 0.0,
             design_rule=self.design_rule,
             design_signature=d.signature if d is not None else None,
-            design_power_w=self.design_power_w, ghost_power_w=self.ghost_power_w,
+            design_power_w=self.design_power_w,
+            design_group_power_w=self.design_group_power_w,
+            design_group_paths=sum(1 for r in self.rows if not r.ghost),
+            ghost_power_w=self.ghost_power_w,
             ghost_fraction=finite_or_none(self.ghost_fraction),
             paths_total=len(self.rows), paths=[r.to_dict() for r in rows],
             hits_dropped=int(self.hits_dropped),
@@ -204,7 +227,8 @@ class GhostTable:
         out = []
         for r in rows:
             cx, cy = r.centroid if r.centroid is not None else (None, None)
-            out.append([r.rank, "yes" if r.design else "", r.power_w, r.fraction,
+            out.append([r.rank, "yes" if r.design else ("equivalent" if r.equivalent else ""),
+                        r.power_w, r.fraction,
                         finite_or_none(r.ratio), r.reflections, r.rays, cx, cy,
                         finite_or_none(r.rms_radius), finite_or_none(r.dop), r.label,
                         r.signature])
@@ -227,7 +251,8 @@ class GhostTable:
         header.append("path")
         body = []
         for r in rows:
-            cells = [f"{r.rank}{'*' if r.design else ' '}", fmt_sci(r.power_w),
+            mark = "*" if r.design else ("=" if r.equivalent else " ")
+            cells = [f"{r.rank}{mark}", fmt_sci(r.power_w),
                      fmt_fraction(r.fraction), fmt_sci(r.ratio) if not r.design else "1",
                      str(r.reflections)]
             if plane:
@@ -239,6 +264,11 @@ class GhostTable:
             rest = sum(r.power_w for r in self.rows[limit:])
             text += f"\n  ... {len(self.rows) - limit} weaker paths, {fmt_sci(rest)} W together"
         gf = self.ghost_fraction
+        n_eq = sum(1 for r in self.rows if r.equivalent)
+        if n_eq:
+            text += (f"\n  = {n_eq} path{'s' if n_eq != 1 else ''} equivalent to the design path "
+                     f"(same faces and events in another order): design signal "
+                     f"{fmt_sci(self.design_group_power_w)} W")
         text += (f"\n  ghost power {fmt_sci(self.ghost_power_w)} W = "
                  f"{fmt_sci(gf) if math.isfinite(gf) else 'inf'} of the design signal")
         if self.hits_dropped > 0:
@@ -381,6 +411,16 @@ def _sequence_for(scene, detector: str):
     return tuple(seq)
 
 
+def _event_multiset(events):
+    """Sorted (face, kind) events of a path: equal for paths that differ only in order.
+
+    >>> a = [("c.r1", "TIR"), ("c.r2", "TIR"), ("cam", "detect")]
+    >>> _event_multiset(a) == _event_multiset([a[1], a[0], a[2]])
+    True
+    """
+    return tuple(sorted((str(f), str(k)) for f, k in events))
+
+
 # ---------------------------------------------------------------- landing spots
 def _landing(result, detector: str):
     """Per path node: (hit power, centroid x, y, mean r², Stokes) from recorded hits."""
@@ -463,6 +503,8 @@ def ghost_table(result, detector: str) -> GhostTable:
         if design_index is None:
             design_index, rule = 0, "strongest"
     design_power = paths[design_index]["power_w"] if design_index is not None else 0.0
+    design_events = (_event_multiset(paths[design_index]["events"])
+                     if design_index is not None else None)
 
     rows = []
     for i, p in enumerate(paths):
@@ -479,6 +521,9 @@ def ghost_table(result, detector: str) -> GhostTable:
             power_w=float(p["power_w"]), fraction=float(p["power_w"]) / src_power if src_power else 0.0,
             ratio=ratio, reflections=int(p["reflections"]), rays=int(p.get("rays") or 0),
             centroid=centroid, rms_radius=rms, dop=dop, design=(i == design_index),
+            equivalent=(i != design_index and design_events is not None
+                        and _event_multiset(p["events"]) == design_events
+                        and src == paths[design_index]["signature"].split(" > ", 1)[0]),
         ))
     return GhostTable(detector=detector, kind="plane" if plane else "far_field",
                       source_power_w=src_power, power_w=total, design_rule=rule, rows=rows,

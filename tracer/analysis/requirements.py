@@ -4,8 +4,9 @@ Kinds (:class:`tracer.scene.model.RequirementSpec`):
 
 * ``min_power``: power on a detector >= limit. The value is in watts, or a fraction of
   the total source power when the limit was given as a fraction (``relative``).
-* ``max_ghost_fraction``: power of every non-design path on a detector divided by the
-  power of the design path <= limit (design path as in :mod:`tracer.analysis.ghosts`).
+* ``max_ghost_fraction``: power of every ghost path on a detector divided by the design
+  signal (the design path and the paths equivalent to it) <= limit (see
+  :mod:`tracer.analysis.ghosts`).
   With no design signal the value is infinite (reported as ``None`` in JSON) and the
   requirement fails.
 * ``max_leakage``: power that tunnelled through a named gap (both directions, every

@@ -213,7 +213,9 @@ def _ghost_section(tables, limit: int) -> str:
     parts = ["<h2>Ghost paths</h2>",
              "<p>Every path that reaches a detector, ranked by power. The design path (shaded) is the "
              "path following the scene's declared sequence, or the strongest path when none is "
-             "declared; all others are ghosts. Events: T transmitted, R partially reflected, "
+             "declared. Paths meeting the same faces with the same events in another order (the "
+             "sub-apertures of a corner cube or a roof) are equivalent to it: with it they make the "
+             "design signal (shaded, marked =). All others are ghosts. Events: T transmitted, R partially reflected, "
              "TIR totally reflected, FT tunnelled across a gap, A absorbed; (…)×n repeats.</p>"]
     for name, t in tables.items():
         src = t.source_power_w
@@ -233,13 +235,14 @@ def _ghost_section(tables, limit: int) -> str:
         rows = []
         for r in t.rows[:limit]:
             row = [str(r.rank), fmt_sci(r.power_w), fmt_fraction(r.fraction),
-                   "design" if r.design else fmt_sci(r.ratio), str(r.reflections)]
+                   "design" if r.design else (("= " if r.equivalent else "") + fmt_sci(r.ratio)),
+                   str(r.reflections)]
             if plane:
                 row += r.spot_cells()
             row.append(_Raw(e(r.label), "path"))
             rows.append(row)
         numeric = tuple(range(len(header) - 1))
-        designs = [r.design for r in t.rows[:limit]]
+        designs = [not r.ghost for r in t.rows[:limit]]
         parts.append(_table(header, rows, num=numeric,
                             row_class=lambda j: "design" if designs[j] else None))
         if len(t.rows) > limit:

@@ -261,7 +261,8 @@ class RequirementSpec:
     kind
         ``min_power``: power on ``detector`` >= ``limit`` [W] (or, with
         ``relative``, fraction of total source power). ``max_ghost_fraction``: power of
-        all non-design paths on ``detector`` / power of the design path <= ``limit``.
+        the ghost paths on ``detector`` / the design signal (design path and the paths
+        equivalent to it, :mod:`tracer.analysis.ghosts`) <= ``limit``.
         ``max_leakage``: power tunnelling through ``gap`` / source power <= ``limit``.
     """
 

@@ -13,7 +13,8 @@ column                         unit  meaning
                                      launches the linear state ``STATE`` (e.g. s and p)
 ``Tdesign.STATE.DET``          1     the same for the design path alone
 ``design_power.DET``           W     power of the design path
-``ghost_power.DET``            W     every path but the design path
+``design_group_power.DET``     W     the design signal: design path and its equivalents
+``ghost_power.DET``            W     every path outside the design group
 ``ghost_fraction.DET``         1     ghost power over design-path power
 ``top_ghost_power.DET``        W     the strongest ghost path
 ``top_ghost.DET``              --    its label
@@ -169,6 +170,7 @@ def collect(result, *, groups=("power", "polarization", "ghosts", "leakage", "re
     if "ghosts" in groups:
         for d, t in tables.items():
             row[f"design_power.{d}"] = float(t.design_power_w)
+            row[f"design_group_power.{d}"] = float(t.design_group_power_w)
             row[f"ghost_power.{d}"] = float(t.ghost_power_w)
             gf = t.ghost_fraction
             row[f"ghost_fraction.{d}"] = float(gf) if math.isfinite(gf) else None
@@ -177,7 +179,7 @@ def collect(result, *, groups=("power", "polarization", "ghosts", "leakage", "re
             row[f"top_ghost.{d}"] = g.label if g is not None else ""
             details.setdefault("top_ghosts", {})[d] = [
                 dict(label=r.label, signature=r.signature, power_w=float(r.power_w))
-                for r in t.rows if not r.design][:3]
+                for r in t.rows if r.ghost][:3]
     if "leakage" in groups:
         for gname in getattr(result.scene, "gaps", {}) or {}:
             row[f"leakage.{gname}"] = float(gap_leakage(result, gname))
