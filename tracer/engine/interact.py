@@ -382,9 +382,7 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         t_medium = np.where(inside, -1, solid)
     fast = jit.compiled()
     if fast:
-        nhat, cos1, s_vec, normal_inc = kernels.frame(k, cs.face_normal, face, inside)
-        if normal_inc.any():
-            s_vec[normal_inc] = pol.sp_basis(k[normal_inc], nhat[normal_inc])[0]
+        nhat, cos1, s_vec = kernels.frame(k, cs.face_normal, face, inside)
     else:
         sign = np.where(inside, 1.0, -1.0)
         nhat = np.empty_like(nf)

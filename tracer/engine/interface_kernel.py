@@ -31,7 +31,7 @@ __all__ = ["frame", "waves", "child_fields", "field_column"]
 
 
 @njit
-def _frame(k, face_normal, face, inside, nhat, cos1, s, flag):
+def _frame(k, face_normal, face, inside, nhat, cos1, s):
     for i in range(k.shape[0]):
         f = face[i]
         sg = 1.0 if inside[i] else -1.0
@@ -97,18 +97,15 @@ def frame(k, face_normal, face, inside):
     s : (N, 3) float [1]
         ``normalise(k x nhat)``, or at normal incidence ``normalise(k x e)`` with ``e``
         the world axis least aligned with ``k``.
-    normal : (N,) bool
-        Rays the caller must still complete (none: kept for the signature).
     """
     n = len(face)
     nhat = np.empty((n, 3))
     cos1 = np.empty(n)
     s = np.empty((n, 3))
-    flag = np.zeros(n, dtype=np.bool_)
     _frame(np.ascontiguousarray(k, dtype=np.float64), face_normal,
            np.ascontiguousarray(face, dtype=np.int64), np.ascontiguousarray(inside), nhat,
-           cos1, s, flag)
-    return nhat, cos1, s, flag
+           cos1, s)
+    return nhat, cos1, s
 
 
 @njit
