@@ -294,3 +294,15 @@ def test_scene_error_importable_from_tracer_errors():
     code = ("import sys, tracer.errors as e; assert 'tracer.scene' not in sys.modules; "
             "from tracer.scene import SceneError; assert SceneError is e.SceneError")
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def test_huge_direction_components_give_a_unit_vector_not_nan():
+    # found by the fuzz test: [0, 1e300] overflowed the norm and left a NaN frame
+    from scene_helpers import from_dict
+
+    doc = base()
+    doc["sources"]["beam"]["direction"] = [0, 1e300]
+    sc = from_dict(doc, path="scenes/x.toml")
+    d = sc.sources["beam"].direction
+    assert d.tolist() == [0.0, 1.0, 0.0]
+    assert all(abs(v) <= 1 for v in sc.sources["beam"].x_axis)

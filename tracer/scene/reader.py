@@ -391,6 +391,9 @@ class Table:
         if vec.size == 2:
             vec = np.append(vec, 0.0)
         if unit_length:
+            big = float(np.max(np.abs(vec)))
+            if big > 0:  # scale first: huge components must not overflow the norm
+                vec = vec / big
             norm = float(np.linalg.norm(vec))
             if not norm > 0:
                 self.error(name, "expected a non-zero direction vector")
