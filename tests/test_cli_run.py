@@ -8,6 +8,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from tracer.cli import main
@@ -180,6 +181,10 @@ def test_path_command_reports_the_design_path(tmp_path, capsys):
     R = ((n - 1) / (n + 1)) ** 2
     assert data["throughput"] == pytest.approx((1 - R) ** 2, rel=1e-9)  # Hecht, as above
     assert data["deviation_deg"] == pytest.approx(0.0, abs=1e-9)
+    # a plate turns no direction: the angular map is the identity (common practice, no
+    # source), printed as well as in the JSON
+    assert np.allclose(data["angular_map"], np.eye(2), atol=1e-9)
+    assert "angular map           [+1.0000 +0.0000]  [+0.0000 +1.0000]" in out
     # a sequence the chief ray cannot follow: exit 1 and where it left
     code, out, _ = run_cli(capsys, "path", PLATE, "--sequence", "plate.back", "plate.front")
     assert code == 1 and "LEFT the sequence" in out

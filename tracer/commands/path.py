@@ -95,6 +95,15 @@ def format_report(s: dict) -> str:
         ["optical path length", f"{1e3 * s['optical_path_length_m']:.4f} mm"],
         ["image", hand + ("" if s.get("image_rotation_deg") is None
                           else f", rotated {s['image_rotation_deg']:.2f}°")],
+    ]
+    am = s.get("angular_map")
+    if am is not None:
+        # output slope per input tilt (rad/rad) in the output frame: the identity for a
+        # constant-deviation path (penta prism, plate), |det| != 1 for a dispersing prism
+        # away from minimum deviation
+        cells = "  ".join("[" + " ".join(f"{v + 0.0:+.4f}" for v in row) + "]" for row in am)
+        rows.append(["angular map", f"{cells}  (output tilt per input tilt, x and y)"])
+    rows += [
         ["retardance", f"{s['retardance_deg']:.3f}°"],
         ["diattenuation", f"{s['diattenuation']:.4g}"],
     ]
