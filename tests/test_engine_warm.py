@@ -2,7 +2,7 @@
 
 import pytest
 
-from tracer.engine import children_kernel, fresnel_kernel, hash_kernel, hit_kernel, jit
+from tracer.engine import children_kernel, detect_kernel, fresnel_kernel, hash_kernel, hit_kernel, jit
 from tracer.engine import interface_kernel
 from tracer.engine.warm import _tiny_scene, warm_up
 
@@ -13,7 +13,7 @@ def test_warm_up_readies_the_kernels_and_its_scene_closes_the_ledger():
     warm_up()
     for fn in (hit_kernel.solid_hits, hit_kernel.detector_hits, interface_kernel._frame,
                interface_kernel._waves, fresnel_kernel._simple, children_kernel._assemble,
-               hash_kernel._lookup, hash_kernel._insert):
+               hash_kernel._lookup, hash_kernel._insert, detect_kernel._hits):
         assert fn.signatures, fn
     from tracer.engine import trace
 

@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import polarization as pol
-from . import children_kernel, hash_kernel, jit
+from . import children_kernel, detect_kernel, hash_kernel, jit
 from .batch import RayBatch, SourceTable
 from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
 from .interact import split
@@ -130,13 +130,17 @@ class Recorder:
         # x axis, y' = k x x'), so S3 keeps its physical handedness; where y' points away from
         # the detector's y axis (a detector facing the light) only S2 changes sign, so that
         # S2 > 0 is still towards the detector's y axis.
-        jones, flip = pol.detector_jones(field, x, y, directions=direction)
-        coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
-        stokes = pol.coherency_to_stokes(coh)
-        stokes[flip, 2] *= -1.0
-        mueller = pol.mueller_from_jones(jones)
-        mueller[flip, 2, :] *= -1.0
-        mueller = mueller.reshape(len(node), 16)
+        if jit.compiled():
+            jones, stokes, mueller, flip = detect_kernel.hit_polarization(
+                field, direction, det, cs.det_x, cs.det_y, coherency, np.arange(len(node)))
+        else:
+            jones, flip = pol.detector_jones(field, x, y, directions=direction)
+            coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
+            stokes = pol.coherency_to_stokes(coh)
+            stokes[flip, 2] *= -1.0
+            mueller = pol.mueller_from_jones(jones)
+            mueller[flip, 2, :] *= -1.0
+            mueller = mueller.reshape(len(node), 16)
         slot = self._slot(node)
         cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
                                mueller], axis=1)
