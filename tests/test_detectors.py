@@ -217,3 +217,47 @@ def test_invalid_detectors_raise():
         dets.DetectorRecord(plane(pixels=(0, 4)))
     with pytest.raises(TracerError, match="detector 'd'"):
         dets.DetectorRecord(plane(kind="sphere"))
+
+
+def _grid_hits(pitch, n):
+    g = (np.arange(n) - (n - 1) / 2) * pitch
+    u, v = np.meshgrid(g, g)
+    return u.ravel(), v.ravel()
+
+
+def test_uniform_ray_grid_gives_a_uniform_map_when_spread():
+    # A uniform beam sampled by a square ray grid: each ray stands for one cell, so the
+    # irradiance is the beam power over its area (P / A, common practice, no source) in
+    # every pixel the beam covers whole, whatever the pixel pitch.
+    spec = plane(size=(8e-3, 8e-3), pixels=(13, 13))  # pixel pitch 0.615 mm
+    pitch, n = 0.25e-3, 20  # a 5 mm square beam of 400 rays
+    u, v = _grid_hits(pitch, n)
+    power = np.full(u.size, 1e-3 / u.size)
+    half = dets.ray_footprints(u, v, np.zeros(u.size, dtype=int))
+    assert np.allclose(half, pitch / 2)
+    point = dets.DetectorRecord(spec)
+    point.add(u, v, power)
+    spread = dets.DetectorRecord(spec)
+    spread.add(u, v, power, footprint=half)
+    expected = 1e-3 / (n * pitch) ** 2
+    edges = spread.u_edges
+    whole = (edges[:-1] >= -n * pitch / 2) & (edges[1:] <= n * pitch / 2)
+    inner = np.outer(whole, whole)
+    assert np.allclose(spread.irradiance()[inner], expected, rtol=1e-12)
+    # the point deposits are not uniform (integer rays per pixel): the test can fail
+    assert np.ptp(point.irradiance()[inner]) > 0.2 * expected
+    assert spread.power_map().sum() == pytest.approx(1e-3, rel=1e-12)
+    assert np.array_equal(spread.count_map(), point.count_map())
+
+
+def test_spread_keeps_power_and_stokes_at_the_detector_edge():
+    spec = plane(size=(4e-3, 4e-3), pixels=(8, 8))
+    u = np.array([1.95e-3, -1.99e-3, 0.0, 5e-3])  # the last misses the detector
+    v = np.array([0.0, 1.9e-3, 0.0, 0.0])
+    power = np.array([1.0, 2.0, 3.0, 4.0])
+    stokes = np.column_stack([power, 0.5 * power, -0.25 * power, 0.1 * power])
+    rec = dets.DetectorRecord(spec)
+    rec.add(u, v, power, stokes, footprint=np.full(4, 0.3e-3))
+    assert rec.power_map().sum() == pytest.approx(6.0, rel=1e-12)
+    s = rec.stokes_maps().sum(axis=(1, 2)) * rec.pixel_area
+    assert np.allclose(s, [6.0, 3.0, -1.5, 0.6], rtol=1e-12)

@@ -240,6 +240,72 @@ def far_field_frame(det, directions):
     return e_theta, e_phi
 
 
+#: Rays spread per block in :meth:`DetectorRecord.add` (bounds the temporary arrays).
+_SPREAD_CHUNK = 8192
+
+
+def _box_fractions(x, half, edges):
+    """(N, bins) fraction of each box ``[x - half, x + half]`` in each bin of ``edges``."""
+    lo = (x - half)[:, None]
+    width = (2.0 * half)[:, None]
+    cum = np.clip((edges[None, :] - lo) / width, 0.0, 1.0)
+    return np.diff(cum, axis=1)
+
+
+def ray_footprints(u, v, groups, *, min_rays: int = 4):
+    """Half-width of the square each hit stands for, from the spacing of its neighbours.
+
+    A grid of source rays lands on a detector as a grid of points; each ray stands for
+    one cell of it. Binning the points alone gives every pixel an integer number of
+    rays, so a uniform beam shows a moire pattern wherever the ray pitch and the pixel
+    pitch do not match. The pitch of the hits of each group (one path, say) is taken as
+    the median distance from each distinct hit point to its nearest distinct neighbour;
+    rays of several wavelengths on one spot count once.
+
+    Parameters
+    ----------
+    u, v : (N,) float [m]
+        Hit coordinates.
+    groups : (N,) int
+        Group of each hit (the path-tree node: hits of one path share a grid).
+    min_rays : int
+        Groups with fewer distinct points keep point deposits (half-width 0).
+
+    Returns
+    -------
+    (N,) float [m]
+        Half the pitch of the hit's group (0 for small groups).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> g = np.arange(5) * 1e-3
+    >>> u, v = np.meshgrid(g, g)
+    >>> h = ray_footprints(u.ravel(), v.ravel(), np.zeros(25, dtype=int))
+    >>> float(h[0])
+    0.0005
+    """
+    from scipy.spatial import cKDTree
+
+    u = np.asarray(u, dtype=float).reshape(-1)
+    v = np.asarray(v, dtype=float).reshape(-1)
+    groups = np.asarray(groups).reshape(-1)
+    out = np.zeros(u.size)
+    if u.size == 0:
+        return out
+    order = np.argsort(groups, kind="stable")
+    bounds = np.flatnonzero(np.r_[True, groups[order][1:] != groups[order][:-1], True])
+    for a, b in zip(bounds[:-1], bounds[1:]):
+        idx = order[a:b]
+        pts = np.unique(np.round(np.column_stack([u[idx], v[idx]]), 12), axis=0)
+        if len(pts) < min_rays:
+            continue
+        dist, _ = cKDTree(pts).query(pts, k=2)
+        pitch = float(np.median(dist[:, 1]))
+        out[idx] = 0.5 * pitch
+    return out
+
+
 def _group_sum(ids, columns):
     """Unique ids and the column sums per id (vectorised)."""
     uniq, inv = np.unique(ids, return_inverse=True)
@@ -326,12 +392,35 @@ class DetectorRecord:
         elif self._stokes_map is not None and power.size:
             raise ValueError("rays without Stokes vectors added to a record that has them")
 
+    def _spread(self, u, v, power, stokes, half):
+        """Deposit the power (and Stokes vectors) of rays with a footprint ``h > 0``.
+
+        Spread over the pixels by the overlap of the box ``[u - h, u + h] x [v - h, v + h]``
+        with each pixel, renormalised to the part of the box inside the detector (a ray
+        that reaches the detector brings all its power); rays outside the detector
+        bring nothing, as with point deposits.
+        """
+        sel = np.nonzero(half > 0)[0]
+        a, b = self.v_edges, self.u_edges
+        for start in range(0, len(sel), _SPREAD_CHUNK):
+            i = sel[start:start + _SPREAD_CHUNK]
+            w = [power[i]] + ([] if stokes is None else [stokes[i, k] for k in range(4)])
+            maps = [self._power_map] + ([] if stokes is None else list(self._stokes_map))
+            on = (u[i] >= b[0]) & (u[i] <= b[-1]) & (v[i] >= a[0]) & (v[i] <= a[-1])
+            w = [wk * on for wk in w]
+            fu = _box_fractions(u[i], half[i], b)
+            fv = _box_fractions(v[i], half[i], a)
+            inside = fu.sum(axis=1) * fv.sum(axis=1)
+            scale = np.where(inside > 0, 1.0 / np.where(inside > 0, inside, 1.0), 0.0)
+            for m, wk in zip(maps, w):
+                m += (fv * (wk * scale)[:, None]).T @ fu
+
     def _accumulate_paths(self, path_ids, columns):
         ids = np.concatenate([self._path_ids, path_ids])
         cols = np.concatenate([self._moments, columns])
         self._path_ids, self._moments = _group_sum(ids, cols)
 
-    def add(self, u, v, power, stokes=None, path_ids=None):
+    def add(self, u, v, power, stokes=None, path_ids=None, footprint=None):
         """Add hits on a plane detector.
 
         Parameters
@@ -344,6 +433,11 @@ class DetectorRecord:
             Stokes vectors in the detector frame, ``S0`` = power.
         path_ids : (N,) int, optional
             Path of each ray (``-1`` when not given).
+        footprint : (N,) float [m], optional
+            Half-width of the square each ray stands for (see :func:`ray_footprints`):
+            its power and Stokes vector are spread over the pixels that square covers
+            (the part inside the detector, so that no power is lost), instead of
+            falling on one pixel. Counts stay per hit point.
         """
         if self.kind != "plane":
             raise ValueError("add() is for plane detectors; use add_directions()")
@@ -351,10 +445,19 @@ class DetectorRecord:
         v = np.asarray(v, dtype=float).reshape(-1)
         power, stokes, path_ids = self._check_arrays(u.size, power, stokes, path_ids)
         keep = np.isfinite(u) & np.isfinite(v)
+        if footprint is not None:
+            footprint = np.broadcast_to(np.asarray(footprint, dtype=float), u.shape)
         if not np.all(keep):
             u, v, power, path_ids = u[keep], v[keep], power[keep], path_ids[keep]
             stokes = None if stokes is None else stokes[keep]
-        self._accumulate_maps(v, u, power, stokes)
+            footprint = None if footprint is None else footprint[keep]
+        if footprint is not None and np.any(footprint > 0):
+            point = footprint <= 0  # counts per hit point; power and Stokes spread below
+            self._accumulate_maps(v, u, power * point,
+                                  None if stokes is None else stokes * point[:, None])
+            self._spread(u, v, power, stokes, footprint)
+        else:
+            self._accumulate_maps(v, u, power, stokes)
         one = np.ones_like(power)
         self._accumulate_paths(path_ids, np.stack([one, power, power * u, power * v, power * u * u, power * v * v], 1))
         self.total_power += float(power.sum())

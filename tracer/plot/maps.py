@@ -91,7 +91,8 @@ def _auto_pixels(spec, loc, power, *, target: float = 4.0, max_holes: float = 0.
         nx, ny = nx2, ny2
 
 
-def irradiance_data(result, detector: str | None = None, *, pixels=None) -> dict:
+def irradiance_data(result, detector: str | None = None, *, pixels=None,
+                    spread: bool = True) -> dict:
     """Binned maps of a plane detector.
 
     Parameters
@@ -105,6 +106,11 @@ def irradiance_data(result, detector: str | None = None, *, pixels=None) -> dict
         two until lit pixels receive at least 4 hits on average and dark pixels between
         lit ones are rare (smooth maps from few rays). Power is conserved whatever
         the grid.
+    spread : bool
+        Spread each hit over the square its ray stands for (the pitch of the hits of
+        its path, :func:`tracer.detectors.ray_footprints`), so that a uniform beam of a
+        ray grid gives a uniform map whatever the pixel pitch (no moire); ``False``:
+        each hit on one pixel.
 
     Returns
     -------
@@ -131,7 +137,12 @@ def irradiance_data(result, detector: str | None = None, *, pixels=None) -> dict
         spec = dataclasses.replace(spec, pixels=(int(pixels[0]), int(pixels[1])))
     rec = DetectorRecord(spec)
     if len(power):
-        rec.add(loc[:, 0], loc[:, 1], power, stokes)
+        footprint = None
+        if spread:
+            from tracer.detectors import ray_footprints
+
+            footprint = ray_footprints(loc[:, 0], loc[:, 1], np.asarray(h["node"]).reshape(-1))
+        rec.add(loc[:, 0], loc[:, 1], power, stokes, footprint=footprint)
     total = float(power.sum())
     cen = (np.array([np.dot(power, loc[:, 0]), np.dot(power, loc[:, 1])]) / total
            if total > 0 else np.array([np.nan, np.nan]))
