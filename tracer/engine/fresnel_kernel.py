@@ -1,7 +1,8 @@
 """Compiled coefficients of the faces that need no thin-film solve.
 
-For bare interfaces, ideal coatings (a given reflectance, phases of a perfect
-dielectric mirror-like coating) and mirrors, the coefficients are closed-form per
+For bare interfaces, ideal coatings (a given reflectance R and transmittance 1 - R
+wherever a wave propagates beyond the face, with the phases of
+:func:`tracer.coatings.face_response`) and mirrors, the coefficients are closed-form per
 ray. :func:`simple_coefficients` evaluates them in one compiled loop, writing the
 power coefficients and the power-normalised amplitudes (``|t~|^2 = T``) that the event
 loop uses straight into its arrays. It is the compiled twin of
