@@ -4,20 +4,9 @@
 import numpy as np
 import pytest
 
-from tracer import polarization as pol
 from tracer.engine import detect_kernel, jit
 
 pytestmark = pytest.mark.skipif(not jit.available, reason="numba not installed")
-
-
-def _reference(field, direction, x, y, coherency):
-    jones, flip = pol.detector_jones(field, x, y, directions=direction)
-    coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
-    stokes = pol.coherency_to_stokes(coh)
-    stokes[flip, 2] *= -1.0
-    mueller = pol.mueller_from_jones(jones)
-    mueller[flip, 2, :] *= -1.0
-    return jones, stokes, mueller.reshape(len(field), 16), flip
 
 
 def test_hit_polarization_equals_reference():
@@ -34,7 +23,7 @@ def test_hit_polarization_equals_reference():
     a = rng.normal(size=(n, 2, 2)) + 1j * rng.normal(size=(n, 2, 2))
     coh = a @ np.conj(np.swapaxes(a, -1, -2))
     got = detect_kernel.hit_polarization(field, k, det, det_x, det_y, coh, np.arange(n))
-    ref = _reference(field, k, det_x[det], det_y[det], coh)
+    ref = detect_kernel.hit_polarization_reference(field, k, det_x[det], det_y[det], coh)
     for g, r, name in zip(got, ref, ("jones", "stokes", "mueller", "flip")):
         if name == "flip":
             assert np.array_equal(g, r) and g.any() and not g.all()

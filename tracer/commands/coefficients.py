@@ -47,24 +47,25 @@ def add_arguments(parser) -> None:
     parser.add_argument("--json", metavar="PATH", help="also write the table as JSON to PATH")
 
 
-def _index(text: str, wavelength: float, option: str) -> tuple[complex, str]:
-    """Absolute index of a material name, or of a number read as relative to air (as a
+def _material(text: str, option: str):
+    """A catalog material, or a constant index for a number (relative to air, as a
     scene's inline materials and glass catalogs are; tracer.materials.basis)."""
-    try:
-        value = float(text)
-    except ValueError:
-        pass
-    else:
-        from ..materials.basis import standard_air_index
-
-        return complex(value * float(standard_air_index(wavelength))), text
     from .. import materials
 
     try:
-        model = materials.get(text)
+        try:
+            value = float(text)
+        except ValueError:
+            return materials.get(text)
+        return materials.ConstantIndex(value, name=text)
     except TracerError as exc:
         raise TracerError(f"{option}: {exc}") from None
-    return complex(np.asarray(model.refractive_index(wavelength)).item()), model.name
+
+
+def _index(model, wavelength: float) -> tuple[complex, complex]:
+    """Absolute index and index relative to air of ``model`` at ``wavelength``."""
+    return (complex(np.asarray(model.refractive_index(wavelength)).item()),
+            complex(np.asarray(model.relative_index(wavelength)).item()))
 
 
 def gap_table(*, n_prism: complex, n_gap: complex, angle: float, wavelength: float,
@@ -116,22 +117,20 @@ def run(args) -> int:
         raise TracerError(f"--thickness: COUNT must be a whole number, got {args.thickness[2]!r}") from None
     if count < 1 or stop < start or start < 0:
         raise TracerError("--thickness: expected FROM >= 0, TO >= FROM and COUNT >= 1")
-    n_prism, prism_name = _index(args.prism, wavelength, "--prism")
-    n_gap, gap_name = _index(args.gap, wavelength, "--gap")
+    prism, gap = _material(args.prism, "--prism"), _material(args.gap, "--gap")
+    n_prism, rel_prism = _index(prism, wavelength)
+    n_gap, rel_gap = _index(gap, wavelength)
     table = gap_table(n_prism=n_prism, n_gap=n_gap, angle=angle, wavelength=wavelength,
                       thickness=np.linspace(start, stop, count))
-    from ..materials.basis import standard_air_index
-
-    n_air = float(standard_air_index(wavelength))
-    table.update(prism=prism_name, gap=gap_name, n_prism=[n_prism.real, n_prism.imag],
+    table.update(prism=prism.name, gap=gap.name, n_prism=[n_prism.real, n_prism.imag],
                  n_gap=[n_gap.real, n_gap.imag],
-                 n_prism_relative_to_air=[n_prism.real / n_air, n_prism.imag / n_air],
-                 n_gap_relative_to_air=[n_gap.real / n_air, n_gap.imag / n_air],
+                 n_prism_relative_to_air=[rel_prism.real, rel_prism.imag],
+                 n_gap_relative_to_air=[rel_gap.real, rel_gap.imag],
                  index_basis="n_prism, n_gap: absolute; *_relative_to_air: as printed",
                  angle_deg=math.degrees(angle), wavelength_m=wavelength)
 
-    print(f"prism {prism_name} (n = {n_prism.real / n_air:.5f}) | gap {gap_name} "
-          f"(n = {n_gap.real / n_air:.5f}) | prism   [indices relative to air]")
+    print(f"prism {prism.name} (n = {rel_prism.real:.5f}) | gap {gap.name} "
+          f"(n = {rel_gap.real:.5f}) | prism   [indices relative to air]")
     print(f"angle of incidence {math.degrees(angle):.3f} deg, wavelength {units.format_length(wavelength)}")
     if math.isnan(table["critical_angle_deg"]):
         print("no critical angle (gap medium is denser than the prism)")

@@ -23,11 +23,25 @@ import math
 
 import numpy as np
 
+from .. import polarization as pol
 from ..polarization.jones import _A, _A_INV
 from ..tolerances import NORMAL_INCIDENCE_SIN
+from .interface_kernel import perpendicular
 from .jit import njit
 
-__all__ = ["hit_polarization"]
+__all__ = ["hit_polarization", "hit_polarization_reference"]
+
+
+def hit_polarization_reference(field, direction, x_axis, y_axis, coherency):
+    """The numpy reference of :func:`hit_polarization` (per-hit ``x_axis``, ``y_axis`` and
+    ``coherency``): the same four arrays from :mod:`tracer.polarization`."""
+    jones, flip = pol.detector_jones(field, x_axis, y_axis, directions=direction)
+    coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
+    stokes = pol.coherency_to_stokes(coh)
+    stokes[flip, 2] *= -1.0
+    mueller = pol.mueller_from_jones(jones)
+    mueller[flip, 2, :] *= -1.0
+    return jones, stokes, mueller.reshape(len(jones), 16), flip
 
 
 @njit
@@ -54,20 +68,8 @@ def _hits(field, direction, det, det_x, det_y, coherency, root, A, A_inv, jones,
         nx = math.sqrt(x0 * x0 + x1 * x1 + x2 * x2)
         nref = math.sqrt(r0 * r0 + r1 * r1 + r2 * r2)
         if nx <= NORMAL_INCIDENCE_SIN * max(nref, 1e-300):
-            # x_axis along k: k x e with e the world axis least aligned with k
-            ax = 0
-            m = abs(k0)
-            if abs(k1) < m:
-                ax = 1
-                m = abs(k1)
-            if abs(k2) < m:
-                ax = 2
-            e0 = 1.0 if ax == 0 else 0.0
-            e1 = 1.0 if ax == 1 else 0.0
-            e2 = 1.0 if ax == 2 else 0.0
-            x0 = k1 * e2 - k2 * e1
-            x1 = k2 * e0 - k0 * e2
-            x2 = k0 * e1 - k1 * e0
+            # x_axis along k: the fallback of tracer.polarization.transverse_frame
+            x0, x1, x2 = perpendicular(k0, k1, k2)
             nx = math.sqrt(x0 * x0 + x1 * x1 + x2 * x2)
         x0 /= nx
         x1 /= nx

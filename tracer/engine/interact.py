@@ -220,6 +220,10 @@ class _Coef:
         vals = self._values(c)
         if inverse is not None:
             vals = {k: v[inverse] for k, v in vals.items()}
+        self._set(index, vals)
+
+    def _set(self, index, vals):
+        """Store arrays ``vals`` for the rays at ``index`` (None: they are every ray)."""
         if index is None:
             for k, v in vals.items():
                 setattr(self, k, v)
@@ -236,14 +240,7 @@ class _Coef:
         vals = dict(rs=rs, rp=rp, Rs=one, Rp=one.copy(), Ts=np.zeros(m), Tp=np.zeros(m),
                     rs_n=rs * _unit_amp(one, rs), rp_n=rp * _unit_amp(one, rp),
                     ts_n=np.zeros(m, complex), tp_n=np.zeros(m, complex))
-        if index is None:
-            for k, v in vals.items():
-                setattr(self, k, v)
-            return
-        if not hasattr(self, "rs"):
-            self._alloc()
-        for k, v in vals.items():
-            getattr(self, k)[index] = v
+        self._set(index, vals)
 
     def finish(self):
         if not hasattr(self, "rs"):

@@ -27,7 +27,25 @@ import numpy as np
 from ..tolerances import NORMAL_INCIDENCE_SIN
 from .jit import njit
 
-__all__ = ["frame", "waves", "child_fields", "field_column"]
+__all__ = ["frame", "waves", "child_fields", "field_column", "perpendicular"]
+
+
+@njit
+def perpendicular(k0, k1, k2):
+    """``k x e`` (not normalised), ``e`` the world axis least aligned with ``k`` (lowest
+    index on ties): the fallback of :func:`tracer.polarization.sp_basis` and
+    :func:`tracer.polarization.transverse_frame`, on scalars."""
+    ax = 0
+    m = abs(k0)
+    if abs(k1) < m:
+        ax = 1
+        m = abs(k1)
+    if abs(k2) < m:
+        ax = 2
+    e0 = 1.0 if ax == 0 else 0.0
+    e1 = 1.0 if ax == 1 else 0.0
+    e2 = 1.0 if ax == 2 else 0.0
+    return k1 * e2 - k2 * e1, k2 * e0 - k0 * e2, k0 * e1 - k1 * e0
 
 
 @njit
@@ -53,21 +71,8 @@ def _frame(k, face_normal, face, inside, nhat, cos1, s):
         kn = math.sqrt(kx * kx + ky * ky + kz * kz)
         scale = kn * math.sqrt(n0 * n0 + n1 * n1 + n2 * n2)
         if ns < NORMAL_INCIDENCE_SIN * scale:
-            # normal incidence: s = normalise(k x e), e the world axis least aligned with
-            # k (lowest index on ties), as tracer.polarization.sp_basis
-            ax = 0
-            m = abs(kx)
-            if abs(ky) < m:
-                ax = 1
-                m = abs(ky)
-            if abs(kz) < m:
-                ax = 2
-            e0 = 1.0 if ax == 0 else 0.0
-            e1 = 1.0 if ax == 1 else 0.0
-            e2 = 1.0 if ax == 2 else 0.0
-            s0 = ky * e2 - kz * e1
-            s1 = kz * e0 - kx * e2
-            s2 = kx * e1 - ky * e0
+            # normal incidence: the fixed choice of tracer.polarization.sp_basis
+            s0, s1, s2 = perpendicular(kx, ky, kz)
             ns = math.sqrt(s0 * s0 + s1 * s1 + s2 * s2)
         s[i, 0] = s0 / ns
         s[i, 1] = s1 / ns

@@ -134,13 +134,8 @@ class Recorder:
             jones, stokes, mueller, flip = detect_kernel.hit_polarization(
                 field, direction, det, cs.det_x, cs.det_y, coherency, np.arange(len(node)))
         else:
-            jones, flip = pol.detector_jones(field, x, y, directions=direction)
-            coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
-            stokes = pol.coherency_to_stokes(coh)
-            stokes[flip, 2] *= -1.0
-            mueller = pol.mueller_from_jones(jones)
-            mueller[flip, 2, :] *= -1.0
-            mueller = mueller.reshape(len(node), 16)
+            jones, stokes, mueller, flip = detect_kernel.hit_polarization_reference(
+                field, direction, x, y, coherency)
         slot = self._slot(node)
         cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
                                mueller], axis=1)

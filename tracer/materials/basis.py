@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["STANDARD_AIR", "standard_air_index", "index_basis"]
+__all__ = ["STANDARD_AIR", "standard_air_index"]
 
 #: Catalog name of the reference medium of the basis.
 STANDARD_AIR = "air"
@@ -59,8 +59,3 @@ def standard_air_index(wavelength) -> np.ndarray:
     n = optical.refractive_index(np.clip(wl, lo, hi)).real
     radio_n = radio.n
     return np.where(wl >= _RADIO_FROM, radio_n, n)
-
-
-def index_basis(model) -> str:
-    """``"vacuum"`` for models giving absolute indices, else ``"air"``."""
-    return getattr(model, "index_basis", "air")
