@@ -31,7 +31,7 @@ or cut, and counts a path that tunnels twice once).
 from __future__ import annotations
 
 __all__ = ["gap_leakage", "gap_faces", "gap_crossings", "gap_tunnelled_power", "tunnelled_power",
-           "path_tunnelled_power", "gap_tunnel_table", "MECHANISMS"]
+           "path_tunnelled_power", "gap_tunnel_table", "leakage_notes", "MECHANISMS"]
 
 #: What a leakage figure counts: every crossing, only frustrated TIR, or only refraction.
 MECHANISMS = ("crossed", "tunnelled", "refracted")
@@ -208,3 +208,46 @@ def crossing_entry(g: dict) -> dict:
         refracted=dict(a_to_b_w=g["refracted_a_to_b_w"], b_to_a_w=g["refracted_b_to_a_w"]),
         leakage=g["crossed"], refracted_share=g["refracted_share"],
     )
+
+
+def leakage_notes(result, verdicts) -> list[str]:
+    """One line per ``max_leakage`` verdict: what crossed its gap, by mechanism.
+
+    A failing verdict whose gap is crossed by refraction gets a second line saying why
+    (light meets the gap below its medium's critical angle) and what to change.
+
+    Parameters
+    ----------
+    result : tracer.engine.Result
+    verdicts : list of tracer.analysis.Verdict
+    """
+    from .tables import fmt_fraction
+
+    reqs = getattr(result.scene, "requirements", {}) or {}
+    out = []
+    for v in verdicts:
+        if v.kind != "max_leakage":
+            continue
+        spec = reqs.get(v.name)
+        mech = getattr(spec, "mechanism", "crossed")
+        g = gap_crossings(result, v.subject)
+        judged = {"crossed": "every crossing", "tunnelled": "tunnelled power only",
+                  "refracted": "refracted power only"}[mech]
+        if not g["tir_possible"]:
+            out.append(f"{v.name}: gap {v.subject} is a cemented joint (no TIR possible); "
+                       f"{fmt_fraction(g['crossed'])} of the source crossed it")
+            continue
+        out.append(f"{v.name}: judges {judged} of gap {v.subject}: crossed "
+                   f"{fmt_fraction(g['crossed'])} of the source = refracted "
+                   f"{fmt_fraction(g['refracted'])} (below the critical angle) + tunnelled "
+                   f"{fmt_fraction(g['tunnelled'])} (frustrated TIR); refracted share "
+                   f"{fmt_fraction(g['refracted_share'])} of the crossing")
+        if not v.passed and mech != "tunnelled" and g["refracted_w"] > 0:
+            out.append(f"  {v.name} fails mostly by refraction: part of the light meets the gap "
+                       "below its medium's critical angle. Narrow the source's angular spread "
+                       "to within the TIR margin (tracer path shows the margin over the source's "
+                       "spread) or tilt the TIR face so the whole cone lies beyond the critical "
+                       "angle." if g["refracted_share"] >= 0.5 else
+                       f"  {v.name} fails with refraction across the gap as well as tunnelling: "
+                       "see tracer path for the margin over the source's spread")
+    return out

@@ -103,7 +103,8 @@ def summarize(scene: Scene) -> dict:
     }
     requirements = {
         name: {"kind": r.kind, "limit": _f(r.limit), "relative": bool(r.relative),
-               "detector": r.detector, "gap": r.gap}
+               "detector": r.detector, "gap": r.gap,
+               **({"mechanism": r.mechanism} if r.kind == "max_leakage" else {})}
         for name, r in scene.requirements.items()
     }
     st = scene.settings
