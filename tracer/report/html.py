@@ -269,6 +269,18 @@ def _sequence_section(seq: dict | None, error: str | None) -> str:
                      fmt_sci(st.get("leakage")), fmt_fraction(st.get("power_fraction"))])
     parts.append(_table(["step", "face", "event", "incidence [°]", "critical [°]", "TIR margin [°]",
                          "leakage", "kept"], rows, num=(3, 4, 5, 6, 7)))
+    sp = seq.get("spread")
+    if sp:
+        for st in seq["steps"]:
+            if "below_critical_fraction" in st:
+                worst = st.get("worst_tir_margin_deg")
+                parts.append(f"<p>Over the source's extent ({e(sp['kind'])}, {sp['rays']} rays): "
+                             f"{e(st['face'])} worst TIR margin "
+                             f"{'-' if worst is None else f'{worst:.3f}'}°, "
+                             f"{fmt_fraction(st['below_critical_fraction'])} of the source power "
+                             "below the critical angle.</p>")
+        for w in seq.get("warnings", []):
+            parts.append(f'<p class="fail">Warning: {e(w)}</p>')
     if not seq["complete"]:
         left = seq.get("left_at") or {}
         parts.append(f'<p class="fail">The chief ray left the sequence at step '
