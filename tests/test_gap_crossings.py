@@ -133,9 +133,9 @@ def test_summary_lists_both_directions_of_each_mechanism():
     res = trace(sc)
     g = res.summary()["gaps"]["g"]
     assert g["crossed_w"] == pytest.approx(g["tunnelled_w"] + g["refracted_w"], rel=1e-14)
-    assert g["a_to_b_w"] + g["b_to_a_w"] == pytest.approx(g["crossed_w"], rel=1e-14)
+    assert g["a_to_b_w"] + g["b_to_a_w"] == pytest.approx(g["tunnelled_w"], rel=1e-14)
     assert g["refracted"]["b_to_a_w"] > 0.0
-    for m in ("tunnelled", "refracted"):
+    for m in ("crossed", "tunnelled", "refracted"):
         assert g[m]["a_to_b_w"] + g[m]["b_to_a_w"] == pytest.approx(g[f"{m}_w"], rel=1e-14)
     assert g["per_source"]["src"]["crossed_w"] == g["crossed_w"]
     assert g["tir_possible"] is True

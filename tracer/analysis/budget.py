@@ -77,8 +77,8 @@ class PowerBudget:
         Far-field detectors (they see the escaped power).
     tunnelled : dict
         Per gap, every crossing of it: ``faces``, ``tir_possible``, ``crossed_w``,
-        ``tunnelled_w``, ``refracted_w``, ``a_to_b_w``, ``b_to_a_w`` (crossed) [W],
-        ``tunnelled`` and ``refracted`` (``a_to_b_w``, ``b_to_a_w`` [W]), ``leakage``
+        ``tunnelled_w``, ``refracted_w``, ``a_to_b_w``, ``b_to_a_w`` (tunnelled) [W],
+        ``crossed``, ``tunnelled`` and ``refracted`` (``a_to_b_w``, ``b_to_a_w`` [W]), ``leakage``
         (crossed / source power) and ``refracted_share`` [1] (see
         :func:`tracer.analysis.leakage.gap_tunnel_table`).
     """
@@ -145,7 +145,8 @@ def _crossing_line(name: str, g: dict) -> str:
     tunnelling to report there.
     """
     a_, b_ = (str(f).split(".")[0] for f in g["faces"][:2])
-    dirs = (f"{a_} to {b_} {fmt_sci(g['a_to_b_w'])} W, {b_} to {a_} {fmt_sci(g['b_to_a_w'])} W")
+    c = g.get("crossed", g)
+    dirs = (f"{a_} to {b_} {fmt_sci(c['a_to_b_w'])} W, {b_} to {a_} {fmt_sci(c['b_to_a_w'])} W")
     head = (f"crossed gap {name} ({g['faces'][0]} | {g['faces'][1]}): "
             f"{fmt_sci(g['crossed_w'])} W = {fmt_fraction(g['leakage'])} of the source")
     tail = f" ({dirs}; already inside the accounts above)"

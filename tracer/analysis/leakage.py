@@ -189,10 +189,10 @@ def gap_tunnel_table(result) -> dict:
     -------
     dict
         ``{gap: {"faces": [a, b], "tir_possible", "crossed_w", "tunnelled_w",
-        "refracted_w", "a_to_b_w", "b_to_a_w" (crossed, per direction),
-        "tunnelled": {"a_to_b_w", "b_to_a_w"}, "refracted": {...}, "leakage"
-        (crossed / source power), "refracted_share"}}`` in scene order (empty without
-        gaps).
+        "refracted_w", "a_to_b_w", "b_to_a_w" (tunnelled, per direction, as before),
+        "crossed": {"a_to_b_w", "b_to_a_w"}, "tunnelled": {...}, "refracted": {...},
+        "leakage" (crossed / source power), "refracted_share"}}`` in scene order (empty
+        without gaps).
     """
     return {name: crossing_entry(gap_crossings(result, name))
             for name in getattr(result, "gap_names", [])}
@@ -203,7 +203,8 @@ def crossing_entry(g: dict) -> dict:
     return dict(
         faces=list(g["faces"]), tir_possible=bool(g["tir_possible"]),
         crossed_w=g["crossed_w"], tunnelled_w=g["tunnelled_w"], refracted_w=g["refracted_w"],
-        a_to_b_w=g["crossed_a_to_b_w"], b_to_a_w=g["crossed_b_to_a_w"],
+        a_to_b_w=g["tunnelled_a_to_b_w"], b_to_a_w=g["tunnelled_b_to_a_w"],
+        crossed=dict(a_to_b_w=g["crossed_a_to_b_w"], b_to_a_w=g["crossed_b_to_a_w"]),
         tunnelled=dict(a_to_b_w=g["tunnelled_a_to_b_w"], b_to_a_w=g["tunnelled_b_to_a_w"]),
         refracted=dict(a_to_b_w=g["refracted_a_to_b_w"], b_to_a_w=g["refracted_b_to_a_w"]),
         leakage=g["crossed"], refracted_share=g["refracted_share"],

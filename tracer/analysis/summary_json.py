@@ -16,7 +16,7 @@ __all__ = ["RunAnalysis", "analyse", "run_summary", "write_json", "SCHEMA_NAME",
            "CAUTION"]
 
 SCHEMA_NAME = "tracer-run-summary"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
 #: The ``caution`` key of every summary (our own wording; the full caution is in the
 #: README and in the HTML report).

@@ -359,7 +359,7 @@ class Result:
         paths [signature, power_w, reflections, rays], hits_dropped), ``ledger``
         (source_w, detected_w, absorbed_w, escaped_w, discarded_w, cut_w, residual_w
         and the breakdowns; ``per_source``), ``gaps`` (name -> faces, tir_possible,
-        crossed_w, tunnelled_w, refracted_w, a_to_b_w, b_to_a_w (of the crossed power),
+        crossed_w, tunnelled_w, refracted_w, a_to_b_w, b_to_a_w (of the tunnelled power),
         ``crossed``/``tunnelled``/``refracted`` -> a_to_b_w, b_to_a_w [W], per_source ->
         crossed_w, tunnelled_w, refracted_w; see :meth:`crossed_power`) and
         ``hits_dropped`` (see :attr:`hits_dropped`).
@@ -404,8 +404,8 @@ class Result:
                 crossed_w=led.crossed(gi),
                 tunnelled_w=led.tunnelled(gi),
                 refracted_w=led.refracted(gi),
-                a_to_b_w=led.crossed(gi, side=0),
-                b_to_a_w=led.crossed(gi, side=1),
+                a_to_b_w=led.tunnelled(gi, side=0),
+                b_to_a_w=led.tunnelled(gi, side=1),
                 **{m: dict(a_to_b_w=book(gi, side=0), b_to_a_w=book(gi, side=1))
                    for m, book in (("crossed", led.crossed), ("tunnelled", led.tunnelled),
                                    ("refracted", led.refracted))},

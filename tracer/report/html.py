@@ -232,7 +232,7 @@ def _crossings_table(budget) -> str:
         rows.append([name, f"{g['faces'][0]} | {g['faces'][1]}", w(g["crossed_w"]),
                      "- (cemented joint)" if cemented else w(g["tunnelled_w"]),
                      "-" if cemented else w(g["refracted_w"]),
-                     fmt_sci(g["a_to_b_w"]), fmt_sci(g["b_to_a_w"])])
+                     fmt_sci(g["crossed"]["a_to_b_w"]), fmt_sci(g["crossed"]["b_to_a_w"])])
     return ("<h3>Gap crossings</h3><p>Power that crossed each gap from one face to the other "
             "(booked at each crossing; already inside the accounts above): tunnelled beyond the "
             "gap medium's critical angle (frustrated TIR) or refracted below it. Leakage "
