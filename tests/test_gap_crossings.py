@@ -161,6 +161,8 @@ def test_cone_demo_fails_by_refraction():
     summary = json.loads(json.dumps(run_summary(analyse(res))))
     assert summary["gaps"]["tir"]["refracted_w"] == pytest.approx(g["refracted_w"], rel=1e-12)
     assert summary["gaps"]["tir"]["refracted_share"] > 0.99
+    (req,) = [r for r in summary["requirements"] if r["name"] == "gap_leakage"]
+    assert req["mechanism"] == "crossed" and not req["passed"]
     # judging tunnelling alone would pass: the hidden failure the issue reported
     assert gap_leakage(res, "tir", mechanism="tunnelled") < scene.requirements["gap_leakage"].limit
 

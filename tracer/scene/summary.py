@@ -209,7 +209,10 @@ def format_summary(summary: dict) -> str:
         elif r["kind"] == "max_ghost_fraction":
             lines.append(f"  {name}: ghost fraction on {target} <= {r['limit']:g}")
         else:
-            lines.append(f"  {name}: leakage through {target} <= {r['limit']:g}")
+            what = {"crossed": "power crossing", "tunnelled": "tunnelled power through",
+                    "refracted": "refracted power through"}.get(r.get("mechanism", "crossed"),
+                                                                "power crossing")
+            lines.append(f"  {name}: {what} {target} <= {r['limit']:g} of the source power")
     if s.get("tolerances"):
         lines.append(f"tolerances ({len(s['tolerances'])}, for `tracer tolerance`):")
         for name, t in s["tolerances"].items():
