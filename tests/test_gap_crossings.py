@@ -269,3 +269,27 @@ def test_path_report_collimated_pair_has_no_warning():
     assert step["below_critical_fraction"] == 0.0
     assert step["worst_tir_margin_deg"] == pytest.approx(step["tir_margin_deg"], abs=1e-9)
     assert rep.warnings == []
+
+
+@pytest.mark.parametrize("old, new", [('half_angle = "12 deg"', 'half_angle = "5 deg"'),
+                                      ("crown-517642", "dense-flint-755276")])
+def test_cone_demo_passes_with_the_changes_its_comment_suggests(tmp_path, old, new):
+    f = tmp_path / "fixed.toml"
+    f.write_text(CONE.read_text().replace(old, new))
+    res = trace(load(f))
+    assert all(v.passed for v in evaluate(res))
+    assert gap_crossings(res, "tir")["refracted_w"] == 0.0
+
+
+def test_path_command_warns_and_writes_the_spread(tmp_path, capsys):
+    from tracer.cli import main
+
+    js = tmp_path / "p.json"
+    code = main(["path", str(CONE), "--json", str(js)])
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "worst TIR margin" in out and "WARNING" in out and "below the critical angle" in out
+    data = json.loads(js.read_text())
+    step = data["steps"][1]
+    assert step["below_critical_fraction"] > 0.2 and step["worst_tir_margin_deg"] < 0
+    assert data["spread"]["kind"] == "fan" and data["warnings"]
