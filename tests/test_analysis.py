@@ -260,7 +260,7 @@ def test_run_summary_is_strict_json_with_documented_keys():
     s = run_summary(a)
     text = json.dumps(s, allow_nan=False)
     back = json.loads(text)
-    assert back["schema"] == "tracer-run-summary" and back["schema_version"] == 1
+    assert back["schema"] == "tracer-run-summary" and back["schema_version"] == 2
     assert back["tool"]["name"] == "tracer" and back["tool"]["version"]
     assert back["source_power_w"] == pytest.approx(1.0)
     assert set(back["settings"]) >= {"mode", "power_threshold", "max_events", "seed"}

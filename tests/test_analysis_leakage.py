@@ -54,7 +54,8 @@ def test_budget_text_and_json_list_the_tunnelled_power():
     g = b.tunnelled["g"]
     assert g["tunnelled_w"] == pytest.approx(_first_pass(), rel=1e-9)
     assert g["b_to_a_w"] == 0.0
-    assert "tunnelled through gap g (upper.hypotenuse | lower.hypotenuse)" in b.format_text()
+    assert "crossed gap g (upper.hypotenuse | lower.hypotenuse)" in b.format_text()
+    assert "of which tunnelled" in b.format_text()
     assert b.to_dict()["tunnelled"]["g"]["a_to_b_w"] == g["a_to_b_w"]
     assert gap_tunnel_table(res)["g"] == g
     s = run_summary(analyse(res))

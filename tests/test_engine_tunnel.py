@@ -59,7 +59,7 @@ def test_first_pass_tunnelled_power_is_entrance_T_times_gap_T(pol):
     g = res.summary()["gaps"]["g"]
     assert g["faces"] == ["upper.hypotenuse", "lower.hypotenuse"]
     assert g["tunnelled_w"] == pytest.approx(expected, rel=1e-10)
-    assert g["per_source"]["src"] == g["tunnelled_w"]
+    assert g["per_source"]["src"]["tunnelled_w"] == g["tunnelled_w"]
     # here every tunnelled watt is absorbed on lower.leg_a: the detected/escaped-path
     # count of the analysis would see none of it
     absorbed = res.ledger.breakdown()["absorbed_faces"]["lower.leg_a"]

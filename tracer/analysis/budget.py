@@ -76,8 +76,11 @@ class PowerBudget:
     far_field : list of str
         Far-field detectors (they see the escaped power).
     tunnelled : dict
-        Per gap: ``faces``, ``tunnelled_w``, ``a_to_b_w``, ``b_to_a_w`` [W] and
-        ``leakage`` [1] (see :func:`tracer.analysis.leakage.gap_tunnel_table`).
+        Per gap, every crossing of it: ``faces``, ``tir_possible``, ``crossed_w``,
+        ``tunnelled_w``, ``refracted_w``, ``a_to_b_w``, ``b_to_a_w`` (tunnelled) [W],
+        ``crossed``, ``tunnelled`` and ``refracted`` (``a_to_b_w``, ``b_to_a_w`` [W]), ``leakage``
+        (crossed / source power) and ``refracted_share`` [1] (see
+        :func:`tracer.analysis.leakage.gap_tunnel_table`).
     """
 
     source_power_w: float
@@ -127,16 +130,37 @@ class PowerBudget:
         text += (f"\n  closure residual {fmt_sci(self.residual_w)} W "
                  f"({fmt_sci(self.relative_residual)} of the source power)")
         for name, g in self.tunnelled.items():
-            a_, b_ = (str(f).split(".")[0] for f in g["faces"][:2])
-            text += (f"\n  tunnelled through gap {name} ({g['faces'][0]} | {g['faces'][1]}): "
-                     f"{fmt_sci(g['tunnelled_w'])} W = {fmt_fraction(g['leakage'])} of the source "
-                     f"({a_} to {b_} {fmt_sci(g['a_to_b_w'])} W, {b_} to {a_} "
-                     f"{fmt_sci(g['b_to_a_w'])} W; already inside the accounts above)")
+            text += "\n  " + _crossing_line(name, g)
         if self.far_field:
             many = len(self.far_field) > 1
             text += (f"\n  far-field detector{'s' if many else ''} {', '.join(self.far_field)} "
                      f"collect{'' if many else 's'} the escaped power")
         return text
+
+
+def _crossing_line(name: str, g: dict) -> str:
+    """One text line: what crossed gap ``name`` (``g`` as in :attr:`PowerBudget.tunnelled`).
+
+    A cemented joint (no TIR possible) shows only the crossed power: there is no
+    tunnelling to report there.
+    """
+    a_, b_ = (str(f).split(".")[0] for f in g["faces"][:2])
+    c = g.get("crossed", g)
+    dirs = (f"{a_} to {b_} {fmt_sci(c['a_to_b_w'])} W, {b_} to {a_} {fmt_sci(c['b_to_a_w'])} W")
+    head = (f"crossed gap {name} ({g['faces'][0]} | {g['faces'][1]}): "
+            f"{fmt_sci(g['crossed_w'])} W = {fmt_fraction(g['leakage'])} of the source")
+    tail = f" ({dirs}; already inside the accounts above)"
+    if not g.get("tir_possible", True):
+        return f"{head}{tail[:-1]}; a cemented joint, no TIR possible)"
+    src = g["crossed_w"] / g["leakage"] if g["leakage"] else 0.0
+
+    def part(key):
+        w = g[f"{key}_w"]
+        frac = fmt_fraction(w / src) if src else fmt_fraction(0.0)
+        return f"{key} {fmt_sci(w)} W = {frac}"
+
+    return (f"{head}{tail}\n    of which {part('tunnelled')} (frustrated TIR), "
+            f"{part('refracted')} (refraction below the critical angle)")
 
 
 def power_budget(result, *, source: str | None = None) -> PowerBudget:
@@ -190,14 +214,10 @@ def power_budget(result, *, source: str | None = None) -> PowerBudget:
     totals["lost_w"] = lost
     far = [d.name for d in getattr(result.compiled, "far_fields", [])]
     tunnelled = {}
-    if hasattr(result, "tunnelled_power"):
-        from .leakage import gap_faces
+    if hasattr(result, "crossed_power"):
+        from .leakage import crossing_entry, gap_crossings
 
         for gname in getattr(result, "gap_names", []):
-            ab = float(result.tunnelled_power(gname, direction="a->b", source=source))
-            ba = float(result.tunnelled_power(gname, direction="b->a", source=source))
-            tunnelled[gname] = dict(faces=list(gap_faces(result.scene, gname)),
-                                    tunnelled_w=ab + ba, a_to_b_w=ab, b_to_a_w=ba,
-                                    leakage=frac(ab + ba))
+            tunnelled[gname] = crossing_entry(gap_crossings(result, gname, source=source))
     return PowerBudget(source_power_w=src, rows=rows, totals=totals,
                        residual_w=float(b["residual_w"]), far_field=far, tunnelled=tunnelled)

@@ -9,8 +9,9 @@ Kinds (:class:`tracer.scene.model.RequirementSpec`):
   :mod:`tracer.analysis.ghosts`).
   With no design signal the value is infinite (reported as ``None`` in JSON) and the
   requirement fails.
-* ``max_leakage``: power that tunnelled through a named gap (both directions, every
-  crossing, as booked by the engine) divided by the source power <= limit (see
+* ``max_leakage``: power that crossed a named gap (both directions, every crossing, as
+  booked by the engine; by default tunnelled and refracted alike, or the one
+  ``mechanism`` the requirement names) divided by the source power <= limit (see
   :mod:`tracer.analysis.leakage`).
 """
 
@@ -114,7 +115,8 @@ def evaluate(result, *, ghosts: dict | None = None) -> list[Verdict]:
             out.append(Verdict(spec.name, spec.kind, spec.detector, bool(value <= spec.limit),
                                value, float(spec.limit), "1", "<="))
         elif spec.kind == "max_leakage":
-            value = gap_leakage(result, spec.gap)
+            value = gap_leakage(result, spec.gap,
+                                mechanism=getattr(spec, "mechanism", "crossed"))
             out.append(Verdict(spec.name, spec.kind, spec.gap, bool(value <= spec.limit),
                                value, float(spec.limit), "1", "<="))
         else:  # pragma: no cover - the loader only produces the kinds above

@@ -16,7 +16,7 @@ __all__ = ["RunAnalysis", "analyse", "run_summary", "write_json", "SCHEMA_NAME",
            "CAUTION"]
 
 SCHEMA_NAME = "tracer-run-summary"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
 #: The ``caution`` key of every summary (our own wording; the full caution is in the
 #: README and in the HTML report).
@@ -127,9 +127,18 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         budget=[r.to_dict() for r in budget.rows],
         gaps={name: dict(g) for name, g in budget.tunnelled.items()},
         hits_dropped=int(getattr(res, "hits_dropped", 0)),
-        requirements=[v.to_dict() for v in analysis.verdicts],
+        requirements=[_verdict_dict(v, scene) for v in analysis.verdicts],
         passed=analysis.passed,
     )
+
+
+def _verdict_dict(v, scene) -> dict:
+    """A verdict as plain data; a ``max_leakage`` one also says which crossings it judged."""
+    d = v.to_dict()
+    if v.kind == "max_leakage":
+        spec = (getattr(scene, "requirements", {}) or {}).get(v.name)
+        d["mechanism"] = str(getattr(spec, "mechanism", "crossed"))
+    return d
 
 
 def write_json(data: dict, path: str | os.PathLike) -> None:

@@ -9,6 +9,12 @@ power kept; then the throughput for the source polarisation, deviation, lateral
 displacement, optical path length, image orientation (handedness and rotation),
 retardance, diattenuation and the output Stokes vector.
 
+Over the source's whole angular extent (its own rays: a fan's angles, a cone's
+directions, a beam's aperture, followed along the chief ray's choices), each TIR face
+gets the worst-case TIR margin and the fraction of the source power that meets it below
+the critical angle; a warning follows when that fraction is not zero (that light is
+refracted across the gap instead of being reflected).
+
 A sequence entry is ``solid.face``, optionally with ``:T`` or ``:R`` to force the
 transmitted or reflected child; it may end with a detector name.
 
@@ -80,6 +86,7 @@ def format_report(s: dict) -> str:
     head += ["bulk before"] if lossy else []
     lines.append(format_table(head + ["kept", "so far"], body,
                               align="r<<rrrr" + "r" * (len(head) - 4), indent="  "))
+    lines += spread_lines(s)
     if not s["complete"]:
         left = s.get("left_at") or {}
         where = left.get("hit") or "nothing (the ray left the assembly)"
@@ -116,6 +123,29 @@ def format_report(s: dict) -> str:
     if not s.get("neighbours_complete", True):
         lines.append("  (neighbour rays left the sequence: image orientation not available)")
     return "\n".join(lines)
+
+
+def spread_lines(s: dict) -> list[str]:
+    """Text lines: TIR margin over the source's angular extent and the warnings."""
+    from ..analysis.tables import fmt_fraction
+
+    sp = s.get("spread")
+    if not sp:
+        return []
+    what = {"fan": f"fan ±{sp['half_angle_deg']:.3g}°", "point": f"cone ±{sp['half_angle_deg']:.3g}°",
+            "collimated": "collimated beam, aperture only"}.get(sp["kind"], sp["kind"])
+    out = [f"  over the source's extent ({sp['source']}: {what}, {sp['rays']} rays "
+           f"at {1e9 * sp['wavelength_m']:.4g} nm):"]
+    tir = [st for st in s["steps"] if "below_critical_fraction" in st]
+    if not tir:
+        out.append("    no TIR face on the design path")
+    for st in tir:
+        worst = st.get("worst_tir_margin_deg")
+        out.append(f"    {st['face']}: worst TIR margin {_deg(worst)}°, "
+                   f"{fmt_fraction(st['below_critical_fraction'])} of the source power below the "
+                   f"critical angle ({fmt_fraction(st['spread_arriving_fraction'])} arrives)")
+    out += [f"  WARNING: {w}" for w in s.get("warnings", [])]
+    return out
 
 
 def run(args) -> int:

@@ -73,6 +73,10 @@ def run(args) -> int:
         print()
     if analysis.verdicts and (not args.quiet or not analysis.passed):
         print(format_verdicts(analysis.verdicts))
+        from ..analysis.leakage import leakage_notes
+
+        for line in leakage_notes(result, analysis.verdicts):
+            print("  " + line)
     elif not args.quiet:
         print("requirements: none declared")
 

@@ -210,7 +210,7 @@ def run(args) -> int:
         print(f"{args.scene}: {len(result.points)} points")
         print(_table(result))
         print("columns: fraction.DET = power on detector DET / source power; T.s.DET, T.p.DET = "
-              "the same for an s or p polarised source; leakage.GAP = power tunnelled through "
+              "the same for an s or p polarised source; leakage.GAP = power crossing (tunnelled or refracted) "
               "GAP / source power; pass.REQ = requirement REQ met (files hold more columns)")
         for e in result.errors:
             if e:

@@ -4,8 +4,8 @@ Public entry points:
 
 * :func:`trace` -- ``trace(scene, **settings) -> Result`` (non-sequential);
 * :func:`trace_sequence` -- follow a declared face sequence and report the design path;
-* :class:`Result` -- ledger, paths, detector records, tunnelled power per gap
-  (:meth:`Result.tunnelled_power`), :meth:`Result.summary`;
+* :class:`Result` -- ledger, paths, detector records, power that crossed each gap
+  (:meth:`Result.crossed_power`: tunnelled and refracted), :meth:`Result.summary`;
 * :func:`launch_counts` -- source rays per source (the indices ``ray_range`` selects).
 
 Example (a demo scene: an uncoated plate in front of a screen):

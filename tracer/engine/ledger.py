@@ -14,13 +14,15 @@ The ledger is a dense table ``books[source, account]`` [W]. Accounts are
 Booking is one ``np.bincount`` per call, so the cost does not depend on how many
 accounts there are.
 
-Beside the accounts (where power ends), the ledger keeps a second, non-closing table
-``tunnel[source, gap, side]`` [W]: the power that crossed each gap in a tunnel event
-(frustrated TIR), side 0 from the gap's solid A to B, side 1 from B to A. It is booked
-at the moment of crossing, before any threshold or event-cap test on the tunnelled
-child, so it is the exact power that leaked through the gap whatever happens to it
-afterwards; a ray that tunnels through the gap twice is counted twice (once per
-crossing and direction).
+Beside the accounts (where power ends), the ledger keeps two non-closing tables of the
+power that crossed each gap, from one of its faces to the other:
+``tunnel[source, gap, side]`` [W] for crossings in a tunnel event (frustrated TIR, beyond
+the gap medium's critical angle) and ``refract[source, gap, side]`` [W] for ordinary
+refraction across the gap (below it); side 0 from the gap's solid A to B, side 1 from B
+to A. Their sum is everything that crossed. Both are booked at the moment of crossing,
+before any threshold or event-cap test on the transmitted child, so they are the exact
+power that went through the gap whatever happens to it afterwards; a ray that crosses
+the gap twice is counted twice (once per crossing and direction).
 
 >>> led = Ledger(["src"], detectors=["cam"], faces=["a.x"], bulks=["ambient", "a"])
 >>> led.book(np.array([0, 0]), led.detector(0), np.array([0.25, 0.5]))
@@ -32,6 +34,10 @@ crossing and direction).
 >>> led.book_tunnels(np.array([0, 0]), np.array([0, 1]), np.array([3, 3]), np.array([0.5, 0.25]))
 >>> led.tunnelled("g", side=0), led.tunnelled("g", side=1), led.tunnelled()
 (0.5, 0.25, 0.75)
+>>> led.book_crossings(np.array([0, 0]), np.array([0, 0]), np.array([1, 0]),
+...                    np.array([0, 0]), np.array([0.125, 0.5]))
+>>> led.refracted("g"), led.crossed("g"), led.crossed("g", side=0)
+(0.125, 0.875, 0.625)
 """
 
 from __future__ import annotations
@@ -62,7 +68,8 @@ class Ledger:
     CUT = 1
     LOST = 2
 
-    #: Event-kind code of a tunnel event (see :mod:`tracer.engine.paths`).
+    #: Event-kind codes of a transmission and a tunnel event (see :mod:`tracer.engine.paths`).
+    TRANSMIT_KIND = 0
     TUNNEL_KIND = 3
 
     def __init__(self, sources, *, detectors, faces, bulks, gaps=()):
@@ -87,6 +94,7 @@ class Ledger:
             self._face_gap[[fa, fb]] = gi
             self._face_side[[fa, fb]] = (0, 1)
         self.tunnel = np.zeros((len(self.sources), len(self.gaps), 2))
+        self.refract = np.zeros((len(self.sources), len(self.gaps), 2))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -131,10 +139,42 @@ class Ledger:
         power : (N,) float [W]
             Power each child carries across.
         """
+        kind = np.asarray(kind)
+        self._book_gap(self.tunnel, source, face, kind == self.TUNNEL_KIND, power)
+
+    def book_crossings(self, source, face, to_face, kind, power) -> None:
+        """Book every transmitted child that crosses a gap, by mechanism.
+
+        A child crosses when the parent met a gap face and the child leaves from
+        another face (the partner across the gap). Tunnel children go to the tunnel
+        table, ordinary transmissions (below the gap medium's critical angle) to the
+        refraction table.
+
+        Parameters
+        ----------
+        source, face, to_face, kind : (N,) int
+            Source index, global id of the face the parent met, the face the
+            transmitted child leaves from and the child's event kind.
+        power : (N,) float [W]
+            Power each child carries across.
+        """
         if not self.gaps:
             return
         face = np.asarray(face, dtype=np.int64)
-        sel = (np.asarray(kind) == self.TUNNEL_KIND) & (face >= 0) & (face < len(self.faces))
+        crossing = face != np.asarray(to_face, dtype=np.int64)
+        if not crossing.any():
+            return
+        kind = np.asarray(kind)
+        self._book_gap(self.tunnel, source, face, crossing & (kind == self.TUNNEL_KIND), power)
+        self._book_gap(self.refract, source, face, crossing & (kind == self.TRANSMIT_KIND),
+                       power)
+
+    def _book_gap(self, table, source, face, sel, power) -> None:
+        """Add ``power[sel]`` to ``table[source, gap of face, side of face]``."""
+        if not self.gaps:
+            return
+        face = np.asarray(face, dtype=np.int64)
+        sel = np.asarray(sel, dtype=bool) & (face >= 0) & (face < len(self.faces))
         if not sel.any():
             return
         f = face[sel]
@@ -145,15 +185,11 @@ class Ledger:
             sel[np.nonzero(sel)[0][~ok]] = False
         src = np.asarray(source, dtype=np.int64)[sel]
         flat = (src * len(self.gaps) + g) * 2 + self._face_side[f]
-        self.tunnel += np.bincount(flat, weights=np.asarray(power, dtype=float)[sel],
-                                   minlength=self.tunnel.size).reshape(self.tunnel.shape)
+        table += np.bincount(flat, weights=np.asarray(power, dtype=float)[sel],
+                             minlength=table.size).reshape(table.shape)
 
-    def tunnelled(self, gap=None, *, source=None, side=None) -> float:
-        """Power [W] that tunnelled through ``gap`` (name or index; all gaps when None).
-
-        ``source`` (index) and ``side`` (0: A to B, 1: B to A) restrict the sum.
-        """
-        t = self.tunnel
+    def _gap_sum(self, table, gap, source, side) -> float:
+        t = table
         if source is not None:
             t = t[source : source + 1]
         if gap is not None:
@@ -162,6 +198,23 @@ class Ledger:
         if side is not None:
             t = t[:, :, int(side)]
         return float(t.sum())
+
+    def tunnelled(self, gap=None, *, source=None, side=None) -> float:
+        """Power [W] that tunnelled through ``gap`` (name or index; all gaps when None).
+
+        ``source`` (index) and ``side`` (0: A to B, 1: B to A) restrict the sum.
+        """
+        return self._gap_sum(self.tunnel, gap, source, side)
+
+    def refracted(self, gap=None, *, source=None, side=None) -> float:
+        """Power [W] that crossed ``gap`` by ordinary refraction (below the gap medium's
+        critical angle); arguments as for :meth:`tunnelled`."""
+        return self._gap_sum(self.refract, gap, source, side)
+
+    def crossed(self, gap=None, *, source=None, side=None) -> float:
+        """Power [W] that crossed ``gap`` by any mechanism (tunnelled + refracted)."""
+        return (self._gap_sum(self.tunnel, gap, source, side)
+                + self._gap_sum(self.refract, gap, source, side))
 
     def launch(self, source, power) -> None:
         """Record launched source power [W]."""
@@ -174,6 +227,7 @@ class Ledger:
         self.books += other.books
         self.launched += other.launched
         self.tunnel += other.tunnel
+        self.refract += other.refract
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):

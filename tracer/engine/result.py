@@ -11,8 +11,10 @@ detector's ``x_axis``); path Mueller matrices map the source's Stokes vector (in
 source's input frame, per unit source power) to the detector's, and are meaningful in
 tree mode only (Monte Carlo rescales fields to the carried power).
 
-Tunnelled power: the power that crossed each gap by frustrated TIR, booked by the
-engine at each crossing (:meth:`Result.tunnelled_power`, ``summary()["gaps"]``).
+Gap crossings: the power that crossed each gap, booked by the engine at each crossing,
+split by mechanism: tunnelled (frustrated TIR, beyond the gap medium's critical angle)
+and refracted (ordinary refraction below it) (:meth:`Result.crossed_power`,
+:meth:`Result.tunnelled_power`, ``summary()["gaps"]``).
 
 >>> from pathlib import Path
 >>> import tracer
@@ -105,6 +107,19 @@ class Result:
         direction : {"a->b", "b->a"}, optional
             Only crossings from the gap's solid A into solid B, or back.
         """
+        return self.crossed_power(gap, source=source, direction=direction,
+                                  mechanism="tunnelled")
+
+    def crossed_power(self, gap: str | None = None, *, source: str | None = None,
+                      direction: str | None = None, mechanism: str = "crossed") -> float:
+        """Power [W] that crossed ``gap`` from one of its faces to the other.
+
+        Booked like :meth:`tunnelled_power`, for every transmitted child that leaves
+        from the partner face: ``mechanism="tunnelled"`` counts only the crossings
+        beyond the gap medium's critical angle (frustrated TIR), ``"refracted"`` only
+        the ordinary refractions below it, ``"crossed"`` (default) both.
+        ``gap``, ``source`` and ``direction`` as for :meth:`tunnelled_power`.
+        """
         led = self.ledger
         gi = None
         if gap is not None:
@@ -124,9 +139,30 @@ class Result:
             if key not in sides:
                 raise ValueError(f'direction={direction!r}: expected "a->b" or "b->a"')
             side = sides[key]
+        books = {"crossed": led.crossed, "tunnelled": led.tunnelled,
+                 "refracted": led.refracted}
+        if mechanism not in books:
+            raise ValueError(f'mechanism={mechanism!r}: expected "crossed", "tunnelled" or '
+                             '"refracted"')
         if gi is None and not self.gap_names:
             return 0.0
-        return led.tunnelled(gi, source=si, side=side)
+        return books[mechanism](gi, source=si, side=side)
+
+    def gap_tir_possible(self, gap: str) -> bool:
+        """Whether light can meet ``gap`` beyond its medium's critical angle at any traced
+        wavelength (a solid on either side denser than the gap medium). False for a
+        cemented joint, whose cement is at least as dense as both solids."""
+        cs = self.compiled
+        gi = self.gap_names.index(gap)
+        spec = cs.gaps[gi]
+        wls = sorted({float(w) for s in getattr(self.scene, "sources", {}).values()
+                      for w in np.asarray(s.spectrum.wavelengths, dtype=float).ravel()})
+        if not wls:
+            return True
+        tab = cs.index_table(np.asarray(wls)).real
+        rows = [cs.solid_names.index(spec.solid_a) + 1, cs.solid_names.index(spec.solid_b) + 1]
+        n_gap = tab[cs.n_solids + 1 + gi]
+        return bool((np.maximum(tab[rows[0]], tab[rows[1]]) > n_gap).any())
 
     @property
     def hits_dropped(self) -> int:
@@ -322,8 +358,10 @@ class Result:
         ``sources`` (name -> power_w, rays), ``detectors`` (name -> power_w, hits,
         paths [signature, power_w, reflections, rays], hits_dropped), ``ledger``
         (source_w, detected_w, absorbed_w, escaped_w, discarded_w, cut_w, residual_w
-        and the breakdowns; ``per_source``), ``gaps`` (name -> faces, tunnelled_w,
-        a_to_b_w, b_to_a_w [W], per_source; see :meth:`tunnelled_power`) and
+        and the breakdowns; ``per_source``), ``gaps`` (name -> faces, tir_possible,
+        crossed_w, tunnelled_w, refracted_w, a_to_b_w, b_to_a_w (of the tunnelled power),
+        ``crossed``/``tunnelled``/``refracted`` -> a_to_b_w, b_to_a_w [W], per_source ->
+        crossed_w, tunnelled_w, refracted_w; see :meth:`crossed_power`) and
         ``hits_dropped`` (see :attr:`hits_dropped`).
         """
         led = self.ledger
@@ -362,10 +400,19 @@ class Result:
             fa, fb = led.gap_faces[gi]
             out["gaps"][gname] = dict(
                 faces=[led.faces[fa], led.faces[fb]],
+                tir_possible=self.gap_tir_possible(gname),
+                crossed_w=led.crossed(gi),
                 tunnelled_w=led.tunnelled(gi),
+                refracted_w=led.refracted(gi),
                 a_to_b_w=led.tunnelled(gi, side=0),
                 b_to_a_w=led.tunnelled(gi, side=1),
-                per_source={n: led.tunnelled(gi, source=i) for i, n in enumerate(led.sources)},
+                **{m: dict(a_to_b_w=book(gi, side=0), b_to_a_w=book(gi, side=1))
+                   for m, book in (("crossed", led.crossed), ("tunnelled", led.tunnelled),
+                                   ("refracted", led.refracted))},
+                per_source={n: dict(crossed_w=led.crossed(gi, source=i),
+                                    tunnelled_w=led.tunnelled(gi, source=i),
+                                    refracted_w=led.refracted(gi, source=i))
+                            for i, n in enumerate(led.sources)},
             )
         out["hits_dropped"] = self.hits_dropped
         return out

@@ -15,6 +15,18 @@ face the kind of event, angle of incidence, critical angle, TIR margin (degrees 
 the critical angle) and, where a gap lies behind a TIR face, the tunnelling leakage.
 Rays that leave the sequence are reported with the face where they left.
 
+Angular extent: the chief ray alone says nothing about the rest of an illumination cone.
+:func:`trace_sequence` also launches the source's own rays (its pattern, ``spread_rays``
+geometric rays of one spectral line: a fan's angles, a cone's directions, a beam's
+aperture) and follows them along the chief ray's choices (the same child at each face).
+At every face where the chief ray is totally reflected the step gets
+``worst_tir_margin_deg`` (the smallest angle of incidence minus the critical angle over
+the rays that arrive, negative when some are below it), ``below_critical_fraction``
+(the share of the source power, as launched, whose rays meet the face below the critical
+angle: there they are refracted through the gap or face instead of being reflected) and
+``spread_arriving_fraction``; ``SequenceReport.warnings`` names each TIR face with a
+non-zero fraction below critical.
+
 Image orientation: the output frame is the input frame ``(x, y, k_in)`` carried by the
 smallest rotation that turns ``k_in`` into ``k_out`` (about ``y`` for a reversal). The
 images of the input ``x`` and ``y`` offsets, projected on the plane normal to the
@@ -87,6 +99,8 @@ class SequenceReport:
     angular_map: np.ndarray | None = None
     angular_map_world: np.ndarray | None = None
     output_frame: np.ndarray | None = None
+    spread: dict | None = None
+    warnings: list = field(default_factory=list)
 
     def summary(self) -> dict:
         """Plain data (degrees for angles)."""
@@ -115,6 +129,8 @@ class SequenceReport:
             image_map=_listed(self.image_map),
             angular_map=_listed(self.angular_map),
             angular_map_world=_listed(self.angular_map_world),
+            spread=None if self.spread is None else dict(self.spread),
+            warnings=list(self.warnings),
         )
 
 
@@ -154,7 +170,7 @@ def _rodrigues(a, b, fallback_axis):
 
 
 def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset=None,
-                   tilt=1e-4) -> SequenceReport:
+                   tilt=1e-4, spread_rays=2001) -> SequenceReport:
     """Follow the design path ``sequence`` from a source's chief ray.
 
     Parameters
@@ -173,6 +189,9 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
     tilt : float [rad]
         Tilt of the angular neighbours (``+-tilt`` towards the source's x and y axes;
         the angular map is their central difference).
+    spread_rays : int
+        Geometric rays of the source's own pattern followed along the chief ray's
+        choices for the TIR margin over the source's angular extent (0: none).
 
     Returns
     -------
@@ -222,6 +241,7 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
     pos = origins.copy()
     Jn = np.broadcast_to(J, (n, 2, 2))
     steps = []
+    choices = []  # (face id, child, chief totally reflected, step index) per face event
     left = None
     wl_i = np.zeros(n, dtype=np.int64)
     wla = np.full(n, wl)
@@ -312,6 +332,7 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
                              else (0.0 if kind == TIR else None)),
                     power_fraction=float((sp.r_power[0] if choice == "R" else sp.t_power[0]) / power[0]))
         steps.append(step)
+        choices.append((fid, choice, kind == TIR, len(steps) - 1))
         if choice == "R":
             dirs, M, power, pos, last = sp.r_dir, sp.r_field, sp.r_power, hit, fa
             t, face = cand["R"]
@@ -359,6 +380,19 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
         det = np.linalg.det(imap)
         handed = int(np.sign(det)) if abs(det) > 1e-9 else 0
         rot = float(np.arctan2(imap[1, 0], imap[0, 0]))
+    spread = None
+    warnings = []
+    if spread_rays and complete:
+        spread = _spread(cs, spec, choices, steps, wl=wl, ntab=ntab, count=int(spread_rays),
+                         seed=int(getattr(scene, "seed", 0) or 0))
+        for st in steps:
+            frac = st.get("below_critical_fraction")
+            if frac:
+                warnings.append(
+                    f"{100 * frac:.3g} % of the source power meets {st['face']} below the "
+                    f"critical angle (worst TIR margin {st['worst_tir_margin_deg']:.2f}°): "
+                    "that light is refracted through the face (across its gap), not totally "
+                    "reflected")
     return SequenceReport(
         sequence=[e for _, _, e in steps_spec], complete=complete, left_at=left,
         throughput=float(power[0]) if complete else 0.0, deviation=dev,
@@ -368,5 +402,85 @@ def trace_sequence(scene, sequence=None, *, source=None, wavelength=None, offset
         diattenuation=float(pol.diattenuation(jones)), output_stokes=stokes, steps=steps,
         input_direction=kin, output_direction=kout, output_point=pos[0],
         neighbours_complete=nb_ok, angular_map=amap, angular_map_world=amap_w,
-        output_frame=np.array([ox, oy]),
+        output_frame=np.array([ox, oy]), spread=spread, warnings=warnings,
     )
+
+
+def _spread(cs, spec, choices, steps, *, wl, ntab, count, seed):
+    """Follow the source's own rays along the chief ray's choices (module docstring).
+
+    Adds ``worst_tir_margin_deg``, ``below_critical_fraction`` and
+    ``spread_arriving_fraction`` to the steps where the chief ray is totally reflected
+    and returns a summary of the sample (source kind, half angle, rays).
+    """
+    from .. import sources as srcmod
+
+    rays = srcmod.generate(spec, rng=np.random.default_rng(seed), count=count)
+    first = rays.line_index == rays.line_index[0]  # one spectral line: the geometry
+    dirs = np.asarray(rays.directions, float)[first]
+    pos = np.asarray(rays.origins, float)[first]
+    w = np.asarray(rays.power, float)[first]
+    total = float(w.sum())
+    m = len(w)
+    M = np.asarray(rays.field, complex)[first]
+    J = np.broadcast_to(np.asarray(rays.coherency, complex), (m, 2, 2))
+    medium = np.full(m, -1, dtype=np.int64)
+    if spec.inside_solid is not None:
+        medium[:] = cs.solid_names.index(spec.inside_solid)
+    last = np.full(m, -1, dtype=np.int64)
+    alive = np.ones(m, dtype=bool)
+    power = np.ones(m)
+    wl_i = np.zeros(m, dtype=np.int64)
+    wla = np.full(m, wl)
+    coh = np.full(m, np.inf)
+    for fid, choice, chief_tir, si in choices:
+        t, face = nearest_hit(cs, pos, dirs, medium, last)
+        alive &= face == fid
+        if not alive.any():
+            if chief_tir:
+                steps[si].update(worst_tir_margin_deg=None, below_critical_fraction=0.0,
+                                 spread_arriving_fraction=0.0)
+            break
+        idx = np.nonzero(alive)[0]
+        hit = pos[idx] + t[idx, None] * dirs[idx]
+        fa = np.full(len(idx), fid)
+        sp = split(cs, direction=dirs[idx], position=hit, field=M[idx], power=power[idx],
+                   medium=medium[idx], face=fa, wavelength=wla[idx], wl_index=wl_i[idx],
+                   ntab=ntab, coherency=J[idx], coherence_length=coh[idx])
+        if chief_tir:
+            inside = medium[idx] == cs.face_solid[fid]
+            nf = np.where(inside[:, None], cs.face_normal[fid], -cs.face_normal[fid])
+            cos1 = np.clip(np.einsum("ij,ij->i", dirs[idx], nf), 0.0, 1.0)
+            aoi = np.arccos(cos1)
+            n1 = ntab[medium[idx] + 1, 0].real
+            g = cs.face_gap[fid]
+            beyond = np.where(inside, ntab[0, 0].real, ntab[cs.face_solid[fid] + 1, 0].real)
+            if g >= 0:  # the gap medium decides TIR (unless the ray lands off the partner)
+                at_gap = inside & ((sp.t_face != fid) | ~sp.t_exists)
+                beyond = np.where(at_gap, ntab[cs.n_solids + 1 + g, 0].real, beyond)
+            with np.errstate(invalid="ignore"):
+                crit = np.where(beyond < n1, np.arcsin(np.clip(beyond / n1, 0.0, 1.0)), np.nan)
+            # no critical angle (denser beyond): the whole arriving power is below it
+            margin = np.where(np.isnan(crit), -np.inf, aoi - np.nan_to_num(crit))
+            below = margin < 0
+            worst = float(margin.min())
+            steps[si].update(
+                worst_tir_margin_deg=float(np.degrees(worst)) if np.isfinite(worst) else None,
+                below_critical_fraction=float(w[idx][below].sum() / total) if total else 0.0,
+                spread_arriving_fraction=float(w[idx].sum() / total) if total else 0.0,
+            )
+        keep = np.zeros(len(idx), dtype=bool)
+        if choice == "R":
+            keep[:] = True
+            nd, nM, np_, npos, nmed, nlast = sp.r_dir, sp.r_field, sp.r_power, hit, medium[idx], fa
+        else:
+            keep = sp.t_exists.copy()
+            nd, nM, np_, npos, nmed, nlast = (sp.t_dir, sp.t_field, sp.t_power, sp.t_origin,
+                                              sp.t_medium, sp.t_face)
+        alive[idx[~keep]] = False
+        dirs[idx], M[idx], power[idx], pos[idx] = nd, nM, np_, npos
+        medium[idx], last[idx] = nmed, nlast
+    return dict(source=spec.name, kind=spec.kind,
+                half_angle_deg=(float(np.degrees(spec.half_angle))
+                                if spec.kind in ("point", "fan") else 0.0),
+                rays=int(m), wavelength_m=float(wl))

@@ -422,8 +422,8 @@ class _Tracer:
                 continue
             nodes = tree.extend(parent_nodes[k], fi[k], kind[k])
             pk = pw[k]
-            if child == "t":  # power crossing a gap (tunnel), before threshold and cap
-                led.book_tunnels(src_i[k], fi[k], kind[k], pk)
+            if child == "t":  # power crossing a gap (tunnel or refraction), before threshold and cap
+                led.book_crossings(src_i[k], fi[k], lf[k], kind[k], pk)
             if self.mc:
                 weak = np.zeros(len(k), dtype=bool)
             else:

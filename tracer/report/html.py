@@ -168,7 +168,13 @@ def _scene_section(summary: dict) -> str:
     return "\n".join(parts)
 
 
-def _verdicts_section(verdicts) -> str:
+def _leakage_notes(result, verdicts) -> list:
+    from ..analysis.leakage import leakage_notes
+
+    return leakage_notes(result, verdicts)
+
+
+def _verdicts_section(verdicts, notes=()) -> str:
     from ..analysis.requirements import _fmt
 
     parts = ["<h2>Requirements</h2>"]
@@ -186,6 +192,8 @@ def _verdicts_section(verdicts) -> str:
              f"{v.comparison} {_fmt(v.limit, v.unit)}",
              _Raw("pass" if v.passed else "FAIL", "pass" if v.passed else "fail")] for v in verdicts]
     parts.append(_table(["requirement", "checks", "on", "value", "limit", "verdict"], rows, num=(3, 4)))
+    for line in notes:  # what crossed each judged gap, by mechanism
+        parts.append(f'<p class="note">{e(line.strip())}</p>')
     return "\n".join(parts)
 
 
@@ -205,8 +213,32 @@ def _budget_section(budget, figure_html: str) -> str:
                  "Discarded: rays below the power threshold; cut: rays stopped at the event cap."
                  + (f" Far-field detector(s) {e(', '.join(budget.far_field))} collect the escaped power."
                     if budget.far_field else "") + "</p>")
+    if budget.tunnelled:
+        parts.append(_crossings_table(budget))
     parts.append(figure_html)
     return "\n".join(parts)
+
+
+def _crossings_table(budget) -> str:
+    """Every gap: the power that crossed it, tunnelled and refracted, per direction."""
+    rows = []
+    for name, g in budget.tunnelled.items():
+        cemented = not g.get("tir_possible", True)
+        src = budget.source_power_w
+
+        def w(x):
+            return f"{fmt_sci(x)} ({fmt_fraction(x / src if src else 0.0)})"
+
+        rows.append([name, f"{g['faces'][0]} | {g['faces'][1]}", w(g["crossed_w"]),
+                     "- (cemented joint)" if cemented else w(g["tunnelled_w"]),
+                     "-" if cemented else w(g["refracted_w"]),
+                     fmt_sci(g["crossed"]["a_to_b_w"]), fmt_sci(g["crossed"]["b_to_a_w"])])
+    return ("<h3>Gap crossings</h3><p>Power that crossed each gap from one face to the other "
+            "(booked at each crossing; already inside the accounts above): tunnelled beyond the "
+            "gap medium's critical angle (frustrated TIR) or refracted below it. Leakage "
+            "requirements judge the crossed power unless they name one mechanism.</p>"
+            + _table(["gap", "faces", "crossed [W]", "tunnelled [W]", "refracted [W]",
+                      "A to B [W]", "B to A [W]"], rows, num=(2, 3, 4, 5, 6)))
 
 
 def _ghost_section(tables, limit: int) -> str:
@@ -269,6 +301,18 @@ def _sequence_section(seq: dict | None, error: str | None) -> str:
                      fmt_sci(st.get("leakage")), fmt_fraction(st.get("power_fraction"))])
     parts.append(_table(["step", "face", "event", "incidence [°]", "critical [°]", "TIR margin [°]",
                          "leakage", "kept"], rows, num=(3, 4, 5, 6, 7)))
+    sp = seq.get("spread")
+    if sp:
+        for st in seq["steps"]:
+            if "below_critical_fraction" in st:
+                worst = st.get("worst_tir_margin_deg")
+                parts.append(f"<p>Over the source's extent ({e(sp['kind'])}, {sp['rays']} rays): "
+                             f"{e(st['face'])} worst TIR margin "
+                             f"{'-' if worst is None else f'{worst:.3f}'}°, "
+                             f"{fmt_fraction(st['below_critical_fraction'])} of the source power "
+                             "below the critical angle.</p>")
+        for w in seq.get("warnings", []):
+            parts.append(f'<p class="fail">Warning: {e(w)}</p>')
     if not seq["complete"]:
         left = seq.get("left_at") or {}
         parts.append(f'<p class="fail">The chief ray left the sequence at step '
@@ -326,7 +370,7 @@ def render_html(*, analysis, scene_summary: dict, figures: list, sequence: dict 
             f'<p class="sub">Stray-light and power report · tracer {e(__version__)} · '
             f"{e(str(scene_summary.get('file') or ''))}</p>",
             CAUTION_HTML,
-            _verdicts_section(analysis.verdicts),
+            _verdicts_section(analysis.verdicts, _leakage_notes(res, analysis.verdicts)),
             _scene_section(scene_summary),
             _budget_section(analysis.budget, budget_fig),
             _ghost_section(analysis.ghosts, ghost_limit),

@@ -263,7 +263,10 @@ class RequirementSpec:
         ``relative``, fraction of total source power). ``max_ghost_fraction``: power of
         the ghost paths on ``detector`` / the design signal (design path and the paths
         equivalent to it, :mod:`tracer.analysis.ghosts`) <= ``limit``.
-        ``max_leakage``: power tunnelling through ``gap`` / source power <= ``limit``.
+        ``max_leakage``: power crossing ``gap`` / source power <= ``limit``; which
+        crossings count is ``mechanism``: ``"crossed"`` (every crossing, the default),
+        ``"tunnelled"`` (frustrated TIR only) or ``"refracted"`` (refraction below the
+        gap medium's critical angle only).
     """
 
     name: str
@@ -272,6 +275,7 @@ class RequirementSpec:
     detector: str | None = None
     gap: str | None = None
     relative: bool = False
+    mechanism: Literal["crossed", "tunnelled", "refracted"] = "crossed"
 
 
 @dataclass(frozen=True)

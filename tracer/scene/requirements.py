@@ -13,6 +13,10 @@ __all__ = ["read_requirement", "REQUIREMENT_KINDS"]
 
 REQUIREMENT_KINDS = ("min_power", "max_ghost_fraction", "max_leakage")
 
+#: What a ``max_leakage`` requirement judges (``mechanism`` key): every crossing of the
+#: gap (default), only frustrated TIR, or only refraction below the critical angle.
+LEAKAGE_MECHANISMS = ("crossed", "tunnelled", "refracted")
+
 
 def _name_ref(t: Table, key: str, known: set[str], what: str) -> str | None:
     value = t.string(key, required=True)
@@ -36,18 +40,22 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     detector = gap = None
     relative = True
     limit = None
+    mechanism = "crossed"
     if kind in ("min_power", "max_ghost_fraction"):
         detector = _name_ref(t, "detector", build.detector_keys, "detector")
-        t.known("gap")
+        t.known("gap", "mechanism")
         if "gap" in t.data:
             t.error("gap", f'a {kind} requirement names a detector, not a gap')
+        if "mechanism" in t.data:
+            t.error("mechanism", f"only a max_leakage requirement has a mechanism, not a {kind}")
     elif kind == "max_leakage":
         gap = _name_ref(t, "gap", gap_names, "gap")
         t.known("detector")
         if "detector" in t.data:
             t.error("detector", "a max_leakage requirement names a gap, not a detector")
+        mechanism = t.string("mechanism", default="crossed", choices=LEAKAGE_MECHANISMS)
     else:
-        t.known("detector", "gap")
+        t.known("detector", "gap", "mechanism")
     raw = t.raw("limit")
     if kind is not None:
         if raw is None:
@@ -62,7 +70,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     if kind is None or limit is None or (detector is None and gap is None):
         return None
     return RequirementSpec(name=name, kind=kind, limit=limit, detector=detector, gap=gap,
-                           relative=relative)
+                           relative=relative, mechanism=mechanism or "crossed")
 
 
 def _limit(t: Table, kind: str, raw):

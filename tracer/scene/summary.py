@@ -103,7 +103,8 @@ def summarize(scene: Scene) -> dict:
     }
     requirements = {
         name: {"kind": r.kind, "limit": _f(r.limit), "relative": bool(r.relative),
-               "detector": r.detector, "gap": r.gap}
+               "detector": r.detector, "gap": r.gap,
+               **({"mechanism": r.mechanism} if r.kind == "max_leakage" else {})}
         for name, r in scene.requirements.items()
     }
     st = scene.settings
@@ -208,7 +209,10 @@ def format_summary(summary: dict) -> str:
         elif r["kind"] == "max_ghost_fraction":
             lines.append(f"  {name}: ghost fraction on {target} <= {r['limit']:g}")
         else:
-            lines.append(f"  {name}: leakage through {target} <= {r['limit']:g}")
+            what = {"crossed": "power crossing", "tunnelled": "tunnelled power through",
+                    "refracted": "refracted power through"}.get(r.get("mechanism", "crossed"),
+                                                                "power crossing")
+            lines.append(f"  {name}: {what} {target} <= {r['limit']:g} of the source power")
     if s.get("tolerances"):
         lines.append(f"tolerances ({len(s['tolerances'])}, for `tracer tolerance`):")
         for name, t in s["tolerances"].items():

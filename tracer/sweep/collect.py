@@ -18,7 +18,7 @@ column                         unit  meaning
 ``ghost_fraction.DET``         1     ghost power over design-path power
 ``top_ghost_power.DET``        W     the strongest ghost path
 ``top_ghost.DET``              --    its label
-``leakage.GAP``                1     power tunnelled through the gap over source power
+``leakage.GAP``                1     power that crossed the gap (tunnelled or refracted) over source power
 ``req.REQ``                    W/1   the requirement's measured value
 ``pass.REQ``                   --    its verdict (True/False)
 ``deviation_deg`` ...          deg   from the sequential design path, when asked
