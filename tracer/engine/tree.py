@@ -127,15 +127,13 @@ class Recorder:
         x = cs.det_x[det]
         y = cs.det_y[det]
         # Jones matrices in the ray's right-handed transverse frame (x' along the detector's
-        # x axis, y' = k x x'), so S3 keeps its physical handedness; where y' points away from
-        # the detector's y axis (a detector facing the light) only S2 changes sign, so that
-        # S2 > 0 is still towards the detector's y axis.
+        # x axis, y' = k x x'): one Stokes vector per beam, free space the identity.
         if jit.compiled():
-            jones, stokes, mueller, flip = detect_kernel.hit_polarization(
-                field, direction, det, cs.det_x, cs.det_y, coherency, np.arange(len(node)))
+            jones, stokes, mueller = detect_kernel.hit_polarization(
+                field, direction, det, cs.det_x, coherency, np.arange(len(node)))
         else:
-            jones, stokes, mueller, flip = detect_kernel.hit_polarization_reference(
-                field, direction, x, y, coherency)
+            jones, stokes, mueller = detect_kernel.hit_polarization_reference(
+                field, direction, x, coherency)
         slot = self._slot(node)
         cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
                                mueller], axis=1)
