@@ -254,10 +254,15 @@ class Result:
     def far_field(self, name: str | None = None) -> dict:
         """Escaped power binned by direction for a far-field detector.
 
-        Returns a dict with ``power`` (n_azimuth, n_polar) [W], ``azimuth_edges`` and
-        ``polar_edges`` [rad]; polar angle from the detector's ``normal``, azimuth from
-        its ``x_axis``.
+        Returns a dict with ``power`` (n_polar, n_azimuth) [W], ``azimuth_edges``
+        (n_azimuth + 1, over [-pi, pi]) and ``polar_edges`` (n_polar + 1, over [0, pi])
+        [rad] and ``solid_angle`` (n_polar, n_azimuth) [sr]; polar angle from the
+        detector's ``normal``, azimuth from its ``x_axis`` towards ``normal x x_axis``.
+        The layout and edges of :meth:`record` and :func:`tracer.detectors.far_field_bins`
+        (row = polar bin, column = azimuth bin, ready for ``imshow(origin="lower")``).
         """
+        from .. import detectors as detmod
+
         ffs = self.compiled.far_fields
         if not ffs:
             raise KeyError("the scene has no far-field detector")
@@ -265,10 +270,9 @@ class Result:
         if d is None:
             raise KeyError(self._unknown_detector(name))
         i = self.compiled.far_fields.index(d)
-        na, npol = d.pixels
-        return dict(power=self._rec.far_maps[i].copy(),
-                    azimuth_edges=np.linspace(0, 2 * np.pi, na + 1),
-                    polar_edges=np.linspace(0, np.pi, npol + 1))
+        azimuth_edges, polar_edges = detmod.far_field_edges(d)
+        return dict(power=self._rec.far_maps[i].copy(), azimuth_edges=azimuth_edges,
+                    polar_edges=polar_edges, solid_angle=detmod.far_field_solid_angles(d))
 
     def record(self, name: str, *, keep_hits: bool = False):
         """A :class:`tracer.detectors.DetectorRecord` of detector ``name`` (maps, per-path
