@@ -390,7 +390,7 @@ class _Tracer:
             r_power = parent_p
             t_power = parent_p
         else:
-            led.book(src_i, led.face_absorbed(fi), sp.absorbed)
+            led.book_absorbed(src_i, led.face_absorbed(fi), sp.absorbed)
             rsel = None  # every reflected child
             tsel = sp.t_exists
             r_power = sp.r_power
