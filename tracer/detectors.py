@@ -21,13 +21,18 @@ polar angle ``theta = arccos(k . n)`` in [0, pi] from the detector ``normal`` an
 ``phi = atan2(k . y, k . x)`` in [-pi, pi) from ``x_axis`` towards ``y = n x x``, on a
 grid of ``pixels = (n_azimuth, n_polar)`` equal steps. A bin's solid angle is
 ``dphi (cos theta_a - cos theta_b)`` (exact; the bins add up to 4 pi) and maps are
-radiant intensity [W/sr] of shape ``(n_polar, n_azimuth)``. The natural polarisation
+of shape ``(n_polar, n_azimuth)`` (row = polar bin from the normal, column = azimuth bin
+from -pi), binned by :func:`far_field_bins` -- the one layout of the engine's
+``Result.far_field``, :class:`DetectorRecord` and the plots. The natural polarisation
 frame of a direction is ``(e_theta, e_phi)`` (:func:`far_field_frame`), right-handed with
 ``k``.
 
 Stokes vectors handed to a record are in watts (``S0`` = the ray's power), typically
-``power0 * tracer.polarization.detector_stokes(M, J, x, y, directions=k)`` with the
-frame of :func:`plane_frame` or :func:`far_field_frame`.
+``power0 * tracer.polarization.detector_stokes(M, J, x, directions=k)`` with the
+``x`` of :func:`plane_frame`: the polarisation frame is ``(x, k x x)``, right-handed about
+the ray (for light arriving against the normal ``k x x = -y``, so S2 > 0 is at +45 deg
+from ``u`` towards ``-v``), so a beam has one Stokes vector whichever way a detector
+faces; on a far-field detector the natural frame is :func:`far_field_frame`.
 
 Examples
 --------

@@ -350,9 +350,11 @@ def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction:
 
     Notes
     -----
-    Stokes vectors are in the detector frame: S1 > 0 linear along the detector's u
-    (``x_axis``), S2 > 0 linear at +45° towards v, S3 > 0 right-handed circular in the
-    convention of :mod:`tracer.polarization`.
+    Stokes vectors are in the detector frame ``(x_axis, k x x_axis)``, right-handed about
+    the ray direction ``k``: S1 > 0 linear along the detector's u (``x_axis``), S2 > 0
+    linear at +45° from u towards ``k x x_axis`` (towards -v for light arriving against
+    the normal), S3 > 0 right-handed circular in the convention of
+    :mod:`tracer.polarization`.
     """
     data = irradiance_data(result, detector, pixels=pixels)
     plt = _style.pyplot()
