@@ -14,7 +14,6 @@ def test_hit_polarization_equals_reference():
     n = 3000
     normals = np.array([[0.0, 0, -1], [0.0, 0, 1], [1.0, 0, 0]])
     det_x = np.array([[1.0, 0, 0], [0.0, 1, 0], [0.0, 0, 1]])
-    det_y = np.cross(normals, det_x)
     det = rng.integers(0, 3, n)
     k = -normals[det] + rng.normal(0, 0.3, (n, 3))
     k[:20] = det_x[det[:20]]  # x_axis along the ray: the fallback frame
@@ -22,10 +21,8 @@ def test_hit_polarization_equals_reference():
     field = rng.normal(size=(n, 3, 2)) + 1j * rng.normal(size=(n, 3, 2))
     a = rng.normal(size=(n, 2, 2)) + 1j * rng.normal(size=(n, 2, 2))
     coh = a @ np.conj(np.swapaxes(a, -1, -2))
-    got = detect_kernel.hit_polarization(field, k, det, det_x, det_y, coh, np.arange(n))
-    ref = detect_kernel.hit_polarization_reference(field, k, det_x[det], det_y[det], coh)
-    for g, r, name in zip(got, ref, ("jones", "stokes", "mueller", "flip")):
-        if name == "flip":
-            assert np.array_equal(g, r) and g.any() and not g.all()
-        else:
-            np.testing.assert_allclose(g, r, rtol=1e-12, atol=1e-12, err_msg=name)
+    got = detect_kernel.hit_polarization(field, k, det, det_x, coh, np.arange(n))
+    ref = detect_kernel.hit_polarization_reference(field, k, det_x[det], coh)
+    assert len(got) == len(ref) == 3
+    for g, r, name in zip(got, ref, ("jones", "stokes", "mueller")):
+        np.testing.assert_allclose(g, r, rtol=1e-12, atol=1e-12, err_msg=name)

@@ -21,13 +21,18 @@ polar angle ``theta = arccos(k . n)`` in [0, pi] from the detector ``normal`` an
 ``phi = atan2(k . y, k . x)`` in [-pi, pi) from ``x_axis`` towards ``y = n x x``, on a
 grid of ``pixels = (n_azimuth, n_polar)`` equal steps. A bin's solid angle is
 ``dphi (cos theta_a - cos theta_b)`` (exact; the bins add up to 4 pi) and maps are
-radiant intensity [W/sr] of shape ``(n_polar, n_azimuth)``. The natural polarisation
+of shape ``(n_polar, n_azimuth)`` (row = polar bin from the normal, column = azimuth bin
+from -pi), binned by :func:`far_field_bins` -- the one layout of the engine's
+``Result.far_field``, :class:`DetectorRecord` and the plots. The natural polarisation
 frame of a direction is ``(e_theta, e_phi)`` (:func:`far_field_frame`), right-handed with
 ``k``.
 
 Stokes vectors handed to a record are in watts (``S0`` = the ray's power), typically
-``power0 * tracer.polarization.detector_stokes(M, J, x, y, directions=k)`` with the
-frame of :func:`plane_frame` or :func:`far_field_frame`.
+``power0 * tracer.polarization.detector_stokes(M, J, x, directions=k)`` with the
+``x`` of :func:`plane_frame`: the polarisation frame is ``(x, k x x)``, right-handed about
+the ray (for light arriving against the normal ``k x x = -y``, so S2 > 0 is at +45 deg
+from ``u`` towards ``-v``), so a beam has one Stokes vector whichever way a detector
+faces; on a far-field detector the natural frame is :func:`far_field_frame`.
 
 Examples
 --------
@@ -61,6 +66,7 @@ __all__ = [
     "far_field_angles",
     "far_field_edges",
     "far_field_solid_angles",
+    "far_field_bins",
     "far_field_frame",
     "DetectorRecord",
 ]
@@ -211,6 +217,44 @@ def far_field_solid_angles(det):
     az, pol_edges = far_field_edges(det)
     band = np.cos(pol_edges[:-1]) - np.cos(pol_edges[1:])
     return band[:, None] * np.diff(az)[None, :]
+
+
+def far_field_bins(det, directions, weights=None):
+    """Sum of ``weights`` per far-field bin, ``(n_polar, n_azimuth)`` (the one layout).
+
+    Row ``j`` is polar bin ``j`` from the detector's ``normal`` (0 to pi), column ``i``
+    azimuth bin ``i`` from ``x_axis`` towards ``normal x x_axis`` (-pi to pi), the edges of
+    :func:`far_field_edges` and the angles of :func:`far_field_angles`; the engine's map
+    (``Result.far_field``) and :class:`DetectorRecord` both bin with it.
+
+    Parameters
+    ----------
+    det : DetectorSpec
+    directions : (N, 3) float [1]
+    weights : (N,) float, optional
+        E.g. power [W]; counts when omitted.
+
+    Returns
+    -------
+    (n_polar, n_azimuth) float
+
+    Examples
+    --------
+    >>> from tracer.scene.model import DetectorSpec
+    >>> det = DetectorSpec(name="sky", kind="far_field", position=np.zeros(3),
+    ...                    normal=np.array([0.0, 0, 1]), x_axis=np.array([1.0, 0, 0]),
+    ...                    size=(0.0, 0.0), pixels=(4, 2))
+    >>> far_field_bins(det, np.array([[-1.0, 1, -0.1]]), np.array([2.0]))  # 135 deg, 94 deg
+    array([[0., 0., 0., 0.],
+           [0., 0., 0., 2.]])
+    """
+    d = np.atleast_2d(np.asarray(directions, dtype=float)).reshape(-1, 3)
+    azimuth_edges, polar_edges = far_field_edges(det)
+    if d.shape[0] == 0:
+        return np.zeros((polar_edges.size - 1, azimuth_edges.size - 1))
+    az, polar = far_field_angles(det, d)
+    out, _, _ = np.histogram2d(polar, az, bins=[polar_edges, azimuth_edges], weights=weights)
+    return out
 
 
 def far_field_frame(det, directions):
@@ -376,19 +420,24 @@ class DetectorRecord:
                 raise ValueError(f"path_ids has {path_ids.size} entries for {n} rays")
         return power, stokes, path_ids
 
-    def _accumulate_maps(self, rows, cols, power, stokes):
-        a, b = (self.v_edges, self.u_edges) if self.kind == "plane" else (self.polar_edges, self.azimuth_edges)
-        pm, _, _ = np.histogram2d(rows, cols, bins=[a, b], weights=power)
-        cm, _, _ = np.histogram2d(rows, cols, bins=[a, b])
-        self._power_map += pm
-        self._count_map += cm.astype(np.int64)
+    def _accumulate_maps(self, rows, cols, power, stokes, directions=None):
+        """Bin by ``(rows, cols)`` on a plane, by ``directions`` (:func:`far_field_bins`)
+        on a far-field detector."""
+        if self.kind == "plane":
+            def bins(w=None):
+                return np.histogram2d(rows, cols, bins=[self.v_edges, self.u_edges], weights=w)[0]
+        else:
+            def bins(w=None):
+                return far_field_bins(self.spec, directions, w)
+        self._power_map += bins(power)
+        self._count_map += bins().astype(np.int64)
         if stokes is not None:
             if self._stokes_map is None:
                 if self.ray_count > 0:
                     raise ValueError("Stokes vectors given after rays without them")
                 self._stokes_map = np.zeros((4,) + self.shape)
             for i in range(4):
-                self._stokes_map[i] += np.histogram2d(rows, cols, bins=[a, b], weights=stokes[:, i])[0]
+                self._stokes_map[i] += bins(stokes[:, i])
         elif self._stokes_map is not None and power.size:
             raise ValueError("rays without Stokes vectors added to a record that has them")
 
@@ -481,8 +530,7 @@ class DetectorRecord:
         d = np.atleast_2d(np.asarray(directions, dtype=float)).reshape(-1, 3)
         d = d / np.linalg.norm(d, axis=1, keepdims=True)
         power, stokes, path_ids = self._check_arrays(d.shape[0], power, stokes, path_ids)
-        az, polar = far_field_angles(self.spec, d)
-        self._accumulate_maps(polar, az, power, stokes)
+        self._accumulate_maps(None, None, power, stokes, directions=d)
         one = np.ones_like(power)
         self._accumulate_paths(path_ids, np.column_stack([one, power, power[:, None] * d]))
         self.total_power += float(power.sum())

@@ -117,6 +117,14 @@ BUDGET_ROUNDOFF = 1e-13
 
 __all__ += ["BUDGET_ROUNDOFF"]
 
+#: Paths whose powers agree to this many significant digits rank as equal and are ordered
+#: by signature, so that round-off (numpy reference against compiled kernels, ~1e-15
+#: relative) does not reorder ghost tables (e.g. the six equal sub-aperture paths of a
+#: corner cube) [1].
+PATH_POWER_TIE_DIGITS = 10
+
+__all__ += ["PATH_POWER_TIE_DIGITS"]
+
 # --- sweeps and tolerancing (tracer.sweep) ------------------------------------------------
 
 #: A tolerance-run result whose spread over the trials is below this fraction of its

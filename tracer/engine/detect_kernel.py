@@ -7,12 +7,12 @@ and :func:`tracer.polarization.mueller_from_jones` (the reference, used when
 
 * the ray's right-handed transverse frame ``x' = x_axis`` made transverse to ``k``
   (the world axis least aligned with ``k`` where ``x_axis`` is parallel to it),
-  ``y' = k x x'``, and ``flip`` where ``y'`` points away from the detector's ``y_axis``;
+  ``y' = k x x'`` (right-handed about the propagation direction, whichever side of the
+  detector the ray comes from: free space is the identity);
 * ``Jones[a, k] = out_a . M[:, k]``, the coherency ``J C J^H`` with the source
   coherency ``C``, the Stokes vector ``(Jxx + Jyy, Jxx - Jyy, 2 Re Jxy, 2 Im Jxy)`` and
   the Mueller matrix ``Re(A (T kron T*) A^-1)`` (our Stokes convention,
-  :mod:`tracer.polarization.jones`), S2 and the third Mueller row negated where
-  ``flip``.
+  :mod:`tracer.polarization.jones`).
 
 ``tests/test_detect_kernel.py`` compares it with those functions.
 """
@@ -32,21 +32,18 @@ from .jit import njit
 __all__ = ["hit_polarization", "hit_polarization_reference"]
 
 
-def hit_polarization_reference(field, direction, x_axis, y_axis, coherency):
-    """The numpy reference of :func:`hit_polarization` (per-hit ``x_axis``, ``y_axis`` and
-    ``coherency``): the same four arrays from :mod:`tracer.polarization`."""
-    jones, flip = pol.detector_jones(field, x_axis, y_axis, directions=direction)
+def hit_polarization_reference(field, direction, x_axis, coherency):
+    """The numpy reference of :func:`hit_polarization` (per-hit ``x_axis`` and
+    ``coherency``): the same three arrays from :mod:`tracer.polarization`."""
+    jones = pol.detector_jones(field, x_axis, directions=direction)
     coh = jones @ coherency @ np.conj(np.swapaxes(jones, -1, -2))
     stokes = pol.coherency_to_stokes(coh)
-    stokes[flip, 2] *= -1.0
     mueller = pol.mueller_from_jones(jones)
-    mueller[flip, 2, :] *= -1.0
-    return jones, stokes, mueller.reshape(len(jones), 16), flip
+    return jones, stokes, mueller.reshape(len(jones), 16)
 
 
 @njit
-def _hits(field, direction, det, det_x, det_y, coherency, root, A, A_inv, jones, stokes,
-          mueller, flip):
+def _hits(field, direction, det, det_x, coherency, root, A, A_inv, jones, stokes, mueller):
     K = np.empty((4, 4), dtype=np.complex128)
     AK = np.empty((4, 4), dtype=np.complex128)
     for n in range(field.shape[0]):
@@ -77,8 +74,6 @@ def _hits(field, direction, det, det_x, det_y, coherency, root, A, A_inv, jones,
         y0 = k1 * x2 - k2 * x1
         y1 = k2 * x0 - k0 * x2
         y2 = k0 * x1 - k1 * x0
-        fl = y0 * det_y[d, 0] + y1 * det_y[d, 1] + y2 * det_y[d, 2] < 0.0
-        flip[n] = fl
         # Jones matrix in (x', y')
         for col in range(2):
             f0 = field[n, 0, col]
@@ -105,7 +100,7 @@ def _hits(field, direction, det, det_x, det_y, coherency, root, A, A_inv, jones,
         jxy = a00 * T10.conjugate() + a01 * T11.conjugate()
         stokes[n, 0] = jxx + jyy
         stokes[n, 1] = jxx - jyy
-        stokes[n, 2] = -2.0 * jxy.real if fl else 2.0 * jxy.real
+        stokes[n, 2] = 2.0 * jxy.real
         stokes[n, 3] = 2.0 * jxy.imag
         # Mueller matrix Re(A (T kron T*) A^-1)
         for i in range(2):
@@ -121,16 +116,15 @@ def _hits(field, direction, det, det_x, det_y, coherency, root, A, A_inv, jones,
                     acc += A[a, q] * K[q, b]
                 AK[a, b] = acc
         for a in range(4):
-            sign = -1.0 if (fl and a == 2) else 1.0
             for b in range(4):
                 acc = 0j
                 for q in range(4):
                     acc += AK[a, q] * A_inv[q, b]
-                mueller[n, 4 * a + b] = sign * acc.real
+                mueller[n, 4 * a + b] = acc.real
 
 
-def hit_polarization(field, direction, det, det_x, det_y, coherency, root):
-    """Jones (n, 2, 2), Stokes (n, 4), Mueller (n, 16) and flip (n,) of detector hits.
+def hit_polarization(field, direction, det, det_x, coherency, root):
+    """Jones (n, 2, 2), Stokes (n, 4) and Mueller (n, 16) of detector hits.
 
     Parameters
     ----------
@@ -138,16 +132,16 @@ def hit_polarization(field, direction, det, det_x, det_y, coherency, root):
         Field matrices of the hits.
     direction : (n, 3) float [1]
     det : (n,) int
-        Plane detector of each hit (rows of ``det_x``, ``det_y``).
-    det_x, det_y : (D, 3) float [1]
-        Detector axes.
+        Plane detector of each hit (rows of ``det_x``).
+    det_x : (D, 3) float [1]
+        Detector x axes.
     coherency : (M, 2, 2) complex
         Source coherency table; hit ``i`` uses row ``root[i]``.
     root : (n,) int
 
     Returns
     -------
-    jones, stokes, mueller, flip
+    jones, stokes, mueller
         See the module docstring; Stokes in watts (the hits' powers), Mueller of the
         field matrix (power-normalised amplitudes).
     """
@@ -155,10 +149,8 @@ def hit_polarization(field, direction, det, det_x, det_y, coherency, root):
     jones = np.empty((n, 2, 2), dtype=complex)
     stokes = np.empty((n, 4))
     mueller = np.empty((n, 16))
-    flip = np.empty(n, dtype=np.bool_)
     c = np.ascontiguousarray
     _hits(c(field, dtype=np.complex128), c(direction, dtype=np.float64), c(det, dtype=np.int64),
-          c(det_x, dtype=np.float64), c(det_y, dtype=np.float64),
-          c(coherency, dtype=np.complex128), c(root, dtype=np.int64), _A, _A_INV, jones,
-          stokes, mueller, flip)
-    return jones, stokes, mueller, flip
+          c(det_x, dtype=np.float64), c(coherency, dtype=np.complex128),
+          c(root, dtype=np.int64), _A, _A_INV, jones, stokes, mueller)
+    return jones, stokes, mueller

@@ -4,7 +4,9 @@ The ledger is a dense table ``books[source, account]`` [W]. Accounts are
 
 * one per plane detector (power recorded there),
 * absorbed on each face (absorbers, and the absorptance of lossy coatings or gaps,
-  computed as parent power minus children so that round-off is booked, not lost),
+  computed as parent power minus children and booked clamped at zero,
+  :meth:`Ledger.book_absorbed`: a lossless face books no negative power, its round-off
+  goes to the closure residual),
 * absorbed in the bulk of each solid and of the ambient (Beer--Lambert),
 * escaped through each exit face (the last face a ray met; ``(no hit)`` for source
   rays that met nothing),
@@ -215,6 +217,21 @@ class Ledger:
         """Power [W] that crossed ``gap`` by any mechanism (tunnelled + refracted)."""
         return (self._gap_sum(self.tunnel, gap, source, side)
                 + self._gap_sum(self.refract, gap, source, side))
+
+    def book_absorbed(self, source, account, power) -> None:
+        """:meth:`book` absorbed power [W] clamped at zero per booking.
+
+        Parent minus children on a lossless face is round-off of either sign; the
+        negative part is not booked, so it stays in the closure residual (``residual_w``,
+        of the order of 1e-16 of the source power) instead of a negative account.
+
+        >>> led = Ledger(["s"], detectors=[], faces=["a.x"], bulks=["ambient", "a"])
+        >>> led.launch(np.array([0]), np.array([1.0]))
+        >>> led.book_absorbed(np.array([0, 0]), led.face_absorbed(0), np.array([-1e-17, 0.25]))
+        >>> led.breakdown()["absorbed_faces"], led.totals()["residual_w"]
+        ({'a.x': 0.25}, 0.75)
+        """
+        self.book(source, account, np.maximum(np.asarray(power, dtype=float), 0.0))
 
     def launch(self, source, power) -> None:
         """Record launched source power [W]."""

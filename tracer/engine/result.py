@@ -6,10 +6,17 @@ for JSON.
 
 Power on a path: in tree mode every path's power is exact (the sum over source rays
 of the power that followed that path); in Monte Carlo mode it is an estimate.
-Polarisation: Stokes vectors are in each detector's frame (S1 > 0 along the
-detector's ``x_axis``); path Mueller matrices map the source's Stokes vector (in the
-source's input frame, per unit source power) to the detector's, and are meaningful in
-tree mode only (Monte Carlo rescales fields to the carried power).
+Polarisation: Stokes vectors are in each detector's frame ``(x_axis, k x x_axis)``,
+right-handed about the ray's direction ``k`` (S1 > 0 along the detector's ``x_axis``;
+for a detector facing the light ``k x x_axis = -normal x x_axis``), so a beam has one
+Stokes vector whichever way a detector faces; path Mueller matrices map the source's
+Stokes vector (in the source's input frame, per unit source power) to the detector's
+(free space between a source and a detector sharing its ``x_axis`` is the identity),
+and are meaningful in tree mode only (Monte Carlo rescales fields to the carried power).
+
+Path order: paths are listed strongest first; powers equal to
+``PATH_POWER_TIE_DIGITS`` significant digits are ordered by signature
+(:func:`path_rank_key`), so round-off never reorders a table.
 
 Gap crossings: the power that crossed each gap, booked by the engine at each crossing,
 split by mechanism: tunnelled (frustrated TIR, beyond the gap medium's critical angle)
@@ -31,9 +38,21 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..tolerances import PATH_POWER_TIE_DIGITS
 from .paths import DETECT, KIND_NAMES
 
-__all__ = ["Result"]
+__all__ = ["Result", "path_rank_key"]
+
+
+def path_rank_key(power, signature):
+    """Sort key of a path: falling power rounded to ``PATH_POWER_TIE_DIGITS`` significant
+    digits, then signature (stable whatever the round-off of the power).
+
+    >>> sorted([(1.0 + 1e-15, "b"), (1.0, "a"), (2.0, "c")],
+    ...        key=lambda p: path_rank_key(*p))
+    [(2.0, 'c'), (1.0, 'a'), (1.000000000000001, 'b')]
+    """
+    return (-float(f"{float(power):.{PATH_POWER_TIE_DIGITS - 1}e}"), str(signature))
 
 
 class Result:
@@ -202,7 +221,7 @@ class Result:
         nodes = all_nodes[sel]
         pw = self._nodes["power"][sel]
         sig = [t.signature(n) for n in nodes]
-        order = sorted(range(len(nodes)), key=lambda i: (-pw[i], sig[i]))
+        order = sorted(range(len(nodes)), key=lambda i: path_rank_key(pw[i], sig[i]))
         return nodes[order] if len(nodes) else nodes
 
     def paths(self, detector: str) -> list[dict]:
@@ -223,12 +242,14 @@ class Result:
         return out
 
     def escaped_paths(self, limit: int = 20) -> list[dict]:
-        """Strongest paths by power escaping after their last event."""
+        """Strongest paths by power escaping after their last event (ties by signature,
+        :func:`path_rank_key`)."""
         esc = self._nodes["escaped"]
         nodes = np.nonzero(esc > 0)[0]
-        nodes = nodes[np.argsort(-esc[nodes], kind="stable")][:limit]
-        return [dict(signature=self.tree.signature(n), power_w=float(esc[n]),
-                     reflections=self.tree.reflections(n)) for n in nodes]
+        sig = {int(n): self.tree.signature(n) for n in nodes}
+        nodes = sorted((int(n) for n in nodes), key=lambda n: path_rank_key(esc[n], sig[n]))
+        return [dict(signature=sig[n], power_w=float(esc[n]),
+                     reflections=self.tree.reflections(n)) for n in nodes[:limit]]
 
     def mueller(self, detector: str, signature: str | None = None) -> np.ndarray:
         """Mueller matrix of a path (or of all paths) onto ``detector``.
@@ -290,10 +311,15 @@ class Result:
     def far_field(self, name: str | None = None) -> dict:
         """Escaped power binned by direction for a far-field detector.
 
-        Returns a dict with ``power`` (n_azimuth, n_polar) [W], ``azimuth_edges`` and
-        ``polar_edges`` [rad]; polar angle from the detector's ``normal``, azimuth from
-        its ``x_axis``.
+        Returns a dict with ``power`` (n_polar, n_azimuth) [W], ``azimuth_edges``
+        (n_azimuth + 1, over [-pi, pi]) and ``polar_edges`` (n_polar + 1, over [0, pi])
+        [rad] and ``solid_angle`` (n_polar, n_azimuth) [sr]; polar angle from the
+        detector's ``normal``, azimuth from its ``x_axis`` towards ``normal x x_axis``.
+        The layout and edges of :meth:`record` and :func:`tracer.detectors.far_field_bins`
+        (row = polar bin, column = azimuth bin, ready for ``imshow(origin="lower")``).
         """
+        from .. import detectors as detmod
+
         ffs = self.compiled.far_fields
         if not ffs:
             raise KeyError("the scene has no far-field detector")
@@ -301,10 +327,9 @@ class Result:
         if d is None:
             raise KeyError(self._unknown_detector(name))
         i = self.compiled.far_fields.index(d)
-        na, npol = d.pixels
-        return dict(power=self._rec.far_maps[i].copy(),
-                    azimuth_edges=np.linspace(0, 2 * np.pi, na + 1),
-                    polar_edges=np.linspace(0, np.pi, npol + 1))
+        azimuth_edges, polar_edges = detmod.far_field_edges(d)
+        return dict(power=self._rec.far_maps[i].copy(), azimuth_edges=azimuth_edges,
+                    polar_edges=polar_edges, solid_angle=detmod.far_field_solid_angles(d))
 
     def record(self, name: str, *, keep_hits: bool = False):
         """A :class:`tracer.detectors.DetectorRecord` of detector ``name`` (maps, per-path

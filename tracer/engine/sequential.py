@@ -73,7 +73,10 @@ class SequenceReport:
     Angles in radians in the attributes; :meth:`summary` gives degrees as well.
     ``image_map`` (2x2 [1]) and ``angular_map`` (2x2 [rad/rad]) are in the output frame
     ``output_frame`` (rows: ox, oy); ``angular_map_world`` is (3, 2) [1/rad]; all three
-    are None when a neighbour ray left the sequence.
+    are None when a neighbour ray left the sequence. ``jones`` and ``output_stokes`` are in
+    that frame too, right-handed about the output ray like a detector's
+    ``(x_axis, k x x_axis)``: a detector whose ``x_axis`` is ``ox`` (or ``-ox``) reports the
+    same Stokes vector.
     """
 
     sequence: list

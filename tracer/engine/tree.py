@@ -80,7 +80,7 @@ class Recorder:
         self._node_esc = np.zeros(0)
         self.far: list[dict] = []
         self.n_far = 0
-        self.far_maps = [np.zeros(tuple(d.pixels)) for d in cs.far_fields]
+        self.far_maps = [np.zeros(tuple(d.pixels)[::-1]) for d in cs.far_fields]  # (n_polar, n_az)
         self.segments: list[dict] = []
         self.n_segments = 0
         self.events = 0
@@ -127,15 +127,13 @@ class Recorder:
         x = cs.det_x[det]
         y = cs.det_y[det]
         # Jones matrices in the ray's right-handed transverse frame (x' along the detector's
-        # x axis, y' = k x x'), so S3 keeps its physical handedness; where y' points away from
-        # the detector's y axis (a detector facing the light) only S2 changes sign, so that
-        # S2 > 0 is still towards the detector's y axis.
+        # x axis, y' = k x x'): one Stokes vector per beam, free space the identity.
         if jit.compiled():
-            jones, stokes, mueller, flip = detect_kernel.hit_polarization(
-                field, direction, det, cs.det_x, cs.det_y, coherency, np.arange(len(node)))
+            jones, stokes, mueller = detect_kernel.hit_polarization(
+                field, direction, det, cs.det_x, coherency, np.arange(len(node)))
         else:
-            jones, stokes, mueller, flip = detect_kernel.hit_polarization_reference(
-                field, direction, x, y, coherency)
+            jones, stokes, mueller = detect_kernel.hit_polarization_reference(
+                field, direction, x, coherency)
         slot = self._slot(node)
         cols = np.concatenate([power[:, None], np.ones((len(node), 1)), p0[:, None], stokes,
                                mueller], axis=1)
@@ -205,22 +203,11 @@ class Recorder:
 
 
 def far_field_bins(d, directions, power):
-    """Power [W] binned (n_azimuth, n_polar) by direction for far-field detector ``d``.
+    """Power [W] binned ``(n_polar, n_azimuth)`` by direction for far-field detector ``d``:
+    :func:`tracer.detectors.far_field_bins` (the one layout, azimuth in [-pi, pi])."""
+    from ..detectors import far_field_bins as bins
 
-    Polar angle from the detector's ``normal`` in [0, pi], azimuth from its ``x_axis``
-    towards ``normal x x_axis`` in [0, 2 pi).
-    """
-    nrm = np.asarray(d.normal, float) / np.linalg.norm(d.normal)
-    x = np.asarray(d.x_axis, float)
-    x = x - x.dot(nrm) * nrm
-    x /= np.linalg.norm(x)
-    y = np.cross(nrm, x)
-    polar = np.arccos(np.clip(directions @ nrm, -1, 1))
-    az = np.mod(np.arctan2(directions @ y, directions @ x), 2 * np.pi)
-    na, npol = d.pixels
-    H, _, _ = np.histogram2d(az, polar, bins=[np.linspace(0, 2 * np.pi, na + 1),
-                                              np.linspace(0, np.pi, npol + 1)], weights=power)
-    return H
+    return bins(d, directions, power)
 
 
 def _progress(opts, total):
@@ -403,7 +390,7 @@ class _Tracer:
             r_power = parent_p
             t_power = parent_p
         else:
-            led.book(src_i, led.face_absorbed(fi), sp.absorbed)
+            led.book_absorbed(src_i, led.face_absorbed(fi), sp.absorbed)
             rsel = None  # every reflected child
             tsel = sp.t_exists
             r_power = sp.r_power

@@ -350,9 +350,11 @@ def stokes_maps(result, detector: str | None = None, *, axes=None, min_fraction:
 
     Notes
     -----
-    Stokes vectors are in the detector frame: S1 > 0 linear along the detector's u
-    (``x_axis``), S2 > 0 linear at +45° towards v, S3 > 0 right-handed circular in the
-    convention of :mod:`tracer.polarization`.
+    Stokes vectors are in the detector frame ``(x_axis, k x x_axis)``, right-handed about
+    the ray direction ``k``: S1 > 0 linear along the detector's u (``x_axis``), S2 > 0
+    linear at +45° from u towards ``k x x_axis`` (towards -v for light arriving against
+    the normal), S3 > 0 right-handed circular in the convention of
+    :mod:`tracer.polarization`.
     """
     data = irradiance_data(result, detector, pixels=pixels)
     plt = _style.pyplot()
@@ -407,15 +409,15 @@ def far_field_data(result, name: str | None = None) -> dict:
     Returns
     -------
     dict
-        ``power`` (n_azimuth, n_polar) [W], ``intensity`` (n_azimuth, n_polar) [W/sr],
-        ``solid_angle`` (n_azimuth, n_polar) [sr], ``azimuth_edges``, ``polar_edges``
-        [rad], ``total_power`` [W].
+        ``power`` (n_polar, n_azimuth) [W], ``intensity`` (n_polar, n_azimuth) [W/sr],
+        ``solid_angle`` (n_polar, n_azimuth) [sr], ``azimuth_edges`` (over [-pi, pi]),
+        ``polar_edges`` [rad], ``total_power`` [W] (the layout of ``Result.far_field``).
     """
     ff = result.far_field(name)
     ae = np.asarray(ff["azimuth_edges"], float)
     pe = np.asarray(ff["polar_edges"], float)
     power = np.asarray(ff["power"], float)
-    omega = np.diff(ae)[:, None] * (np.cos(pe[:-1]) - np.cos(pe[1:]))[None, :]  # exact bin solid angle
+    omega = np.asarray(ff["solid_angle"], float)  # exact bin solid angle
     return dict(power=power, intensity=power / omega, solid_angle=omega, azimuth_edges=ae,
                 polar_edges=pe, total_power=float(power.sum()))
 
@@ -453,7 +455,7 @@ def far_field_map(result, name: str | None = None, *, log: bool = True, ax=None,
     with _style.style():
         norm, shown = _power_norm(inten, log=log, floor=floor)
         cmap = _cmap(IRRADIANCE_CMAP, bad="black")
-        mesh = ax.pcolormesh(data["azimuth_edges"], np.degrees(data["polar_edges"]), shown.T,
+        mesh = ax.pcolormesh(data["azimuth_edges"], np.degrees(data["polar_edges"]), shown,
                              cmap=cmap, norm=norm, shading="flat")
         ax.set_ylim(0, np.degrees(max_polar) if max_polar else 180.0)
         ax.set_facecolor("black")

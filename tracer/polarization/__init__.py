@@ -38,6 +38,15 @@ which turns clockwise when seen from ``+k`` (the receiver), and ``Im(Ex Ey*) = |
 ``S3`` has the opposite sign of the textbook ``i(Ex Ey* - Ey Ex*)`` written for
 ``exp(+i omega t)`` fields; the physical meaning (S3 > 0 right-handed) is the same.
 
+**Detector frame** (:func:`detector_jones`, :func:`detector_stokes`,
+:func:`detector_mueller`). A detector reads a ray in ``x' = x_axis`` made transverse to
+the ray and ``y' = k x x'``: right-handed about the propagation direction, whichever way
+the detector faces (for a detector facing the light, ``k = -normal``, so ``y'`` is
+``-normal x x_axis``, opposite to the detector's pixel axis ``v``). A beam therefore has
+one Stokes vector on every detector and in ``trace_sequence``, and free space between a
+source and a detector sharing its ``x_axis`` is the identity Mueller matrix
+(``tests/test_conventions.py`` checks this against ``py_pol``).
+
 **Interfaces** (:func:`sp_basis`, :func:`apply_interface`). ``s`` is perpendicular to
 the plane of incidence and the same vector for the incident, reflected and transmitted
 waves; for each wave ``p = k x s``, so ``(s, p, k)`` is right-handed. With this basis

@@ -271,36 +271,43 @@ def jones_in_frame(M, out_x, out_y):
     return np.einsum("...ai,...ik->...ak", B, M)
 
 
-def detector_jones(M, x_axis, y_axis, *, directions):
+def detector_jones(M, x_axis, *, directions):
     """Jones matrices of rays in the right-handed transverse frame of a detector.
+
+    The frame is ``x' = x_axis`` made transverse to the ray and ``y' = k x x'``: right-handed
+    about the propagation direction ``k``, so a ray has one Stokes vector whatever the
+    detector's normal (for a detector facing the light, ``k = -normal`` and
+    ``y' = -normal x x_axis``), and free space is the identity.
 
     Parameters
     ----------
     M : (N, 3, 2) complex
-    x_axis, y_axis : (3,) or (N, 3) float [1]
-        Detector axes.
+    x_axis : (3,) or (N, 3) float [1]
+        Detector x axis.
     directions : (N, 3) float [1]
         Ray directions ``k``.
 
     Returns
     -------
     jones : (N, 2, 2) complex
-        From the source input basis to ``(x', y')`` with ``x' = x_axis`` made
-        transverse to ``k`` and ``y' = k x x'`` (right-handed with ``k``).
-    flip : (N,) bool
-        Where ``y'`` points away from ``y_axis`` (e.g. a detector facing the light,
-        whose ``x_axis x y_axis`` is its normal, opposite to ``k``). Reported Stokes
-        vectors negate S2 there, so that S2 > 0 is towards ``y_axis`` while S3 keeps its
-        physical meaning (see :func:`detector_stokes`).
+        From the source input basis to ``(x', y')``.
+
+    Examples
+    --------
+    A ray launched along -z with its source frame (x, -y) meets a detector of normal
+    +z and x axis x: free space is the identity.
+
+    >>> k = np.array([[0.0, 0, -1]])
+    >>> M = initial_field_matrix(*transverse_frame(k, np.array([1.0, 0, 0])))
+    >>> detector_jones(M, np.array([1.0, 0, 0]), directions=k)[0].real.tolist()
+    [[1.0, 0.0], [0.0, 1.0]]
     """
     k = np.atleast_2d(np.asarray(directions, dtype=float))
     xp, yp = transverse_frame(k, x_axis)
-    jones = jones_in_frame(np.asarray(M, dtype=complex), xp, yp)
-    yref = np.broadcast_to(np.asarray(y_axis, dtype=float), yp.shape)
-    return jones, np.sum(yp * yref, axis=-1) < 0
+    return jones_in_frame(np.asarray(M, dtype=complex), xp, yp)
 
 
-def detector_stokes(M, J, x_axis, y_axis, *, directions=None):
+def detector_stokes(M, J, x_axis, y_axis=None, *, directions=None):
     """Stokes vectors [relative power] of rays in a detector frame.
 
     Parameters
@@ -309,17 +316,18 @@ def detector_stokes(M, J, x_axis, y_axis, *, directions=None):
         Field matrices of the rays.
     J : (2, 2) or (N, 2, 2) complex
         Input coherency of their source(s).
-    x_axis, y_axis : (3,) or (N, 3) float [1]
-        Detector axes (the pixel columns and rows).
+    x_axis : (3,) or (N, 3) float [1]
+        Detector x axis.
+    y_axis : (3,) or (N, 3) float [1], optional
+        Used only without ``directions``.
     directions : (N, 3) float [1], optional
         Ray directions. When given (recommended), the field is projected on the frame
-        ``x' = x_axis`` made transverse to the ray, ``y' = k x x'`` (so ``S0`` is the
-        full ray power also for oblique rays), and the Stokes vector is then expressed
-        so that S1 > 0 is along ``x_axis``, S2 > 0 is at +45 deg from ``x_axis`` towards
-        ``y_axis``, and S3 > 0 is right-handed about the ray's own direction, whichever
-        way the detector axes are oriented relative to the ray (mirroring the y axis
-        flips S2 only). Without ``directions`` the field is projected on ``x_axis``
-        and ``y_axis`` as given; the caller makes sure that ``x_axis x y_axis = k``.
+        ``x' = x_axis`` made transverse to the ray, ``y' = k x x'`` (:func:`detector_jones`,
+        right-handed about the ray, so ``S0`` is the full ray power also for oblique
+        rays): S1 > 0 is along ``x_axis``, S2 > 0 at +45 deg from ``x'`` towards
+        ``k x x'`` and S3 > 0 right-handed about the ray. Without ``directions`` the field
+        is projected on ``x_axis`` and ``y_axis`` as given; the caller makes sure that
+        ``x_axis x y_axis = k``.
 
     Returns
     -------
@@ -328,26 +336,24 @@ def detector_stokes(M, J, x_axis, y_axis, *, directions=None):
     """
     J = np.asarray(J, complex)
     if directions is None:
+        if y_axis is None:
+            raise ValueError("detector_stokes needs y_axis or directions")
         jones = jones_in_frame(np.asarray(M, dtype=complex), x_axis, y_axis)
-        return coherency_to_stokes(jones @ J @ np.conj(np.swapaxes(jones, -1, -2)))
-    jones, flip = detector_jones(M, x_axis, y_axis, directions=directions)
-    S = coherency_to_stokes(jones @ J @ np.conj(np.swapaxes(jones, -1, -2)))
-    S[flip, 2] *= -1.0
-    return S
+    else:
+        jones = detector_jones(M, x_axis, directions=directions)
+    return coherency_to_stokes(jones @ J @ np.conj(np.swapaxes(jones, -1, -2)))
 
 
-def detector_mueller(M, x_axis, y_axis, *, directions):
+def detector_mueller(M, x_axis, *, directions):
     """Mueller matrices of ray paths as reported at a detector, ``(N, 4, 4)``.
 
     Maps the source Stokes vector (input basis) to the Stokes vector that
-    :func:`detector_stokes` reports: ``mueller_from_jones`` of :func:`detector_jones`,
-    with the S2 row negated where ``flip``. So ``detector_mueller(...) @ S_in ==
-    detector_stokes(M, stokes_to_coherency(S_in), ...)``.
+    :func:`detector_stokes` reports: ``mueller_from_jones`` of :func:`detector_jones`. So
+    ``detector_mueller(...) @ S_in == detector_stokes(M, stokes_to_coherency(S_in), ...)``,
+    and an empty path (source frame transverse-equal to the detector frame) is the
+    identity, determinant +1.
     """
-    jones, flip = detector_jones(M, x_axis, y_axis, directions=directions)
-    mm = mueller_from_jones(jones)
-    mm[flip, 2, :] *= -1.0
-    return mm
+    return mueller_from_jones(detector_jones(M, x_axis, directions=directions))
 
 
 def path_mueller(M, out_x, out_y):
