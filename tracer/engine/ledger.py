@@ -27,6 +27,10 @@ crossing and direction).
 >>> led.book(np.array([0]), led.DISCARDED, np.array([0.25]))
 >>> led.totals()["detected_w"], led.totals()["discarded_w"]
 (0.75, 0.25)
+A third non-closing table, ``behind[source, detector]`` [W], holds the power that
+crossed each one-sided plane detector from behind (through its back, where it is
+transparent): that light goes on and ends elsewhere, so it is not part of the accounts.
+
 >>> led = Ledger(["src"], detectors=[], faces=["a.h", "b.h"], bulks=["ambient", "a", "b"],
 ...              gaps=[("g", 0, 1)])
 >>> led.book_tunnels(np.array([0, 0]), np.array([0, 1]), np.array([3, 3]), np.array([0.5, 0.25]))
@@ -87,6 +91,7 @@ class Ledger:
             self._face_gap[[fa, fb]] = gi
             self._face_side[[fa, fb]] = (0, 1)
         self.tunnel = np.zeros((len(self.sources), len(self.gaps), 2))
+        self.behind = np.zeros((len(self.sources), len(self.detectors)))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -148,6 +153,24 @@ class Ledger:
         self.tunnel += np.bincount(flat, weights=np.asarray(power, dtype=float)[sel],
                                    minlength=self.tunnel.size).reshape(self.tunnel.shape)
 
+    def book_behind(self, source, detector, power) -> None:
+        """Add ``power`` [W] that crossed plane detector ``detector`` from behind."""
+        power = np.asarray(power, dtype=float)
+        if power.size == 0:
+            return
+        flat = np.asarray(source, dtype=np.int64) * len(self.detectors) + np.asarray(detector)
+        self.behind += np.bincount(flat, weights=power,
+                                   minlength=self.behind.size).reshape(self.behind.shape)
+
+    def behind_power(self, detector=None, *, source=None) -> float:
+        """Power [W] that crossed ``detector`` (index; all when None) from behind."""
+        b = self.behind
+        if source is not None:
+            b = b[source : source + 1]
+        if detector is not None:
+            b = b[:, int(detector) : int(detector) + 1]
+        return float(b.sum())
+
     def tunnelled(self, gap=None, *, source=None, side=None) -> float:
         """Power [W] that tunnelled through ``gap`` (name or index; all gaps when None).
 
@@ -174,6 +197,7 @@ class Ledger:
         self.books += other.books
         self.launched += other.launched
         self.tunnel += other.tunnel
+        self.behind += other.behind
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):

@@ -48,6 +48,8 @@ class Result:
         self._nodes = recorder.node_table()
         self._slot = {int(n): i for i, n in enumerate(self._nodes["nodes"])}
         self._hits = None
+        #: How ``power_threshold = "auto"`` chose the threshold (None: set explicitly).
+        self.threshold_choice = None
 
     # ------------------------------------------------------------------ basics
     @property
@@ -127,6 +129,28 @@ class Result:
         if gi is None and not self.gap_names:
             return 0.0
         return led.tunnelled(gi, source=si, side=side)
+
+    def behind_power(self, detector: str, *, source: str | None = None) -> float:
+        """Power [W] that crossed one-sided plane detector ``detector`` from behind.
+
+        A one-sided detector records light arriving on its front (against its
+        ``normal``) and is transparent from behind: light crossing it from behind goes
+        on unchanged and is not part of its reading. That power is counted here (0 for
+        two-sided and far-field detectors); flip ``normal`` or set ``two_sided`` if it
+        should be recorded.
+        """
+        cs = self.compiled
+        if detector in [d.name for d in cs.far_fields]:
+            return 0.0
+        if detector not in cs.detector_names:
+            raise KeyError(self._unknown_detector(detector))
+        led = self.ledger
+        si = None
+        if source is not None:
+            if source not in led.sources:
+                raise KeyError(f"unknown source {source!r}; sources: {', '.join(led.sources)}")
+            si = led.sources.index(source)
+        return led.behind_power(cs.detector_names.index(detector), source=si)
 
     @property
     def hits_dropped(self) -> int:
@@ -349,6 +373,7 @@ class Result:
                        for p in ps[:max_paths]],
                 paths_total=len(ps),
                 hits_dropped=self.hits_dropped_on(name),
+                behind_w=self.behind_power(name),
             )
         for d in self.compiled.far_fields:
             out["detectors"][d.name] = dict(kind="far_field", power_w=self.detector_power(d.name),
