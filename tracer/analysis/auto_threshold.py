@@ -109,15 +109,15 @@ def trace_auto(scene, trace_once, **settings):
             reason = "no requirement: the first threshold is kept"
             break
         if not unsure:
-            reason = ("every verdict conclusive" if len(attempts) == 1 else
-                      f"every verdict conclusive at this threshold")
+            reason = "every verdict conclusive"
             break
         src = float(res.source_power_w)
         need = min(needed_untraced_w(v, src) for v in unsure)
         target = tolerances.AUTO_THRESHOLD_MARGIN * need
         if not target > 0:
-            reason = (f"{', '.join(v.name for v in unsure)} inconclusive: the value equals the "
-                      "limit, so no finite threshold makes it conclusive")
+            reason = (f"{', '.join(v.name for v in unsure)} inconclusive: no lower threshold is "
+                      "known to make it conclusive (its value equals the limit, or its detector "
+                      "has no design signal)")
             break
         if total_events >= budget_factor * first_events:
             reason = (f"{', '.join(v.name for v in unsure)} still inconclusive: cost limit reached "
