@@ -379,3 +379,23 @@ def test_bad_keys_are_clear_errors(tmp_path, capsys, threshold, limit, needle):
     path = _gap_scene(tmp_path, threshold=threshold, limit=limit)
     code, out, err = _cli(capsys, "check", path)
     assert code == 2 and needle in out + err and str(path.name) in out + err
+
+
+# ------------------------------------------- untraced power on a detector's side
+def test_untraced_near_a_detector():
+    res = trace(COARSE)
+    # the discarded child (T R^2 of the beam) is born inside the plate, the solid the
+    # camera's light last leaves
+    assert res.untraced_near("camera") == (pytest.approx(U_COARSE, rel=1e-12), ["plate"])
+    tot = res.ledger.totals()
+    assert res.ledger.untraced.sum() == pytest.approx(tot["discarded_w"] + tot["cut_w"], rel=1e-12)
+    s = run_summary(analyse(res))
+    assert s["detectors"]["camera"]["untraced_near_w"] == pytest.approx(U_COARSE)
+    assert s["detectors"]["camera"]["untraced_near_solids"] == ["plate"]
+
+
+def test_untraced_near_cannot_be_told_without_light(tmp_path):
+    res = trace(tracer.load(_gap_scene(tmp_path, threshold="1e-6")))
+    assert res.untraced_near("leak") is None
+    s = run_summary(analyse(res))
+    assert s["detectors"]["leak"]["untraced_near_w"] is None

@@ -48,7 +48,7 @@ from dataclasses import dataclass, field
 from .tables import finite_or_none, fmt_fraction, fmt_sci, format_table
 
 __all__ = ["Verdict", "evaluate", "format_verdicts", "all_passed", "verdict_of", "untraced_power",
-           "zero_power_warnings", "behind_warnings", "VERDICTS"]
+           "zero_power_warnings", "behind_warnings", "untraced_notes", "VERDICTS"]
 
 #: The three verdicts, in increasing order of trouble.
 VERDICTS = ("pass", "inconclusive", "fail")
@@ -264,6 +264,24 @@ def zero_power_warnings(result) -> list[str]:
                        "discarded or cut: light too faint for the power threshold may have been "
                        "on its way there; lower trace.power_threshold (or set it to \"auto\") or "
                        "raise trace.max_events to see it")
+    return out
+
+
+def untraced_notes(result, detectors=None) -> list[str]:
+    """Per plane detector with light (of ``detectors``, default all): discarded or cut power
+    left on its side of the assembly (:meth:`tracer.engine.Result.untraced_near`), when any."""
+    out = []
+    near_of = getattr(result, "untraced_near", None)
+    if near_of is None:
+        return out
+    for name in result.compiled.detector_names:
+        if detectors is not None and name not in detectors:
+            continue
+        near = near_of(name)
+        if near is not None and near[0] > 0:
+            out.append(f"note: {fmt_sci(near[0])} W was discarded or cut in "
+                       f"{', '.join(near[1])}, the solid(s) the light on detector {name} last "
+                       "leaves; some of it may have been on its way there")
     return out
 
 

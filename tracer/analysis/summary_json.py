@@ -48,10 +48,14 @@ class RunAnalysis:
 
     @property
     def warnings(self) -> list[str]:
-        """Detectors reading 0 W while power went untraced; light crossing detectors from behind."""
-        from .requirements import behind_warnings, zero_power_warnings
+        """Detectors reading 0 W while power went untraced; light crossing detectors from
+        behind; for a detector with an inconclusive verdict, the untraced power left on its
+        side of the assembly (when that can be told)."""
+        from .requirements import behind_warnings, untraced_notes, zero_power_warnings
 
-        return zero_power_warnings(self.result) + behind_warnings(self.result)
+        unsure = {v.subject for v in self.verdicts if v.verdict == "inconclusive"}
+        return (zero_power_warnings(self.result) + behind_warnings(self.result)
+                + (untraced_notes(self.result, unsure) if unsure else []))
 
 
 def analyse(result) -> RunAnalysis:
@@ -125,6 +129,9 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         d = table.to_dict(limit=max_paths)
         d.pop("detector")
         d["behind_w"] = float(res.behind_power(name)) if hasattr(res, "behind_power") else 0.0
+        near = res.untraced_near(name) if hasattr(res, "untraced_near") else None
+        d["untraced_near_w"] = None if near is None else float(near[0])
+        d["untraced_near_solids"] = None if near is None else list(near[1])
         detectors[name] = d
     ledger = dict(
         source_w=src,

@@ -30,6 +30,8 @@ crossing and direction).
 A third non-closing table, ``behind[source, detector]`` [W], holds the power that
 crossed each one-sided plane detector from behind (through its back, where it is
 transparent): that light goes on and ends elsewhere, so it is not part of the accounts.
+And ``untraced[source, face]`` [W] says where the discarded and cut power was left: at
+which face the discarded or cut child was born (the discarded and cut accounts by face).
 
 >>> led = Ledger(["src"], detectors=[], faces=["a.h", "b.h"], bulks=["ambient", "a", "b"],
 ...              gaps=[("g", 0, 1)])
@@ -92,6 +94,7 @@ class Ledger:
             self._face_side[[fa, fb]] = (0, 1)
         self.tunnel = np.zeros((len(self.sources), len(self.gaps), 2))
         self.behind = np.zeros((len(self.sources), len(self.detectors)))
+        self.untraced = np.zeros((len(self.sources), len(self.faces)))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -162,6 +165,15 @@ class Ledger:
         self.behind += np.bincount(flat, weights=power,
                                    minlength=self.behind.size).reshape(self.behind.shape)
 
+    def book_untraced(self, source, face, power) -> None:
+        """Add discarded or cut ``power`` [W] of children born at global face ``face``."""
+        power = np.asarray(power, dtype=float)
+        if power.size == 0:
+            return
+        flat = np.asarray(source, dtype=np.int64) * len(self.faces) + np.asarray(face)
+        self.untraced += np.bincount(flat, weights=power,
+                                     minlength=self.untraced.size).reshape(self.untraced.shape)
+
     def behind_power(self, detector=None, *, source=None) -> float:
         """Power [W] that crossed ``detector`` (index; all when None) from behind."""
         b = self.behind
@@ -198,6 +210,7 @@ class Ledger:
         self.launched += other.launched
         self.tunnel += other.tunnel
         self.behind += other.behind
+        self.untraced += other.untraced
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):

@@ -152,6 +152,39 @@ class Result:
             si = led.sources.index(source)
         return led.behind_power(cs.detector_names.index(detector), source=si)
 
+    def untraced_near(self, detector: str):
+        """Discarded and cut power [W] left on the detector's side of the assembly.
+
+        The detector's side is the set of solids its light last leaves: the solid of the
+        last face of every path recorded on it. The power returned was discarded (under
+        the power threshold) or cut (at the event cap) as it was born at a face of one of
+        those solids, so it had already reached that part of the assembly; where it would
+        have gone is unknown. Not a bound (light discarded elsewhere may also have come
+        here; the verdicts use all the discarded and cut power).
+
+        Returns
+        -------
+        (float, list of str) or None
+            The power and the solids; None when no path reaches the detector (or it is a
+            far-field detector), so the side cannot be told.
+        """
+        cs = self.compiled
+        if detector not in cs.detector_names:
+            if detector in [d.name for d in cs.far_fields]:
+                return None
+            raise KeyError(self._unknown_detector(detector))
+        solids = set()
+        for n in self.path_nodes(detector):
+            ev = self.tree.events(n)
+            faces = [f for f, _ in ev if 0 <= f < cs.n_faces]
+            if faces:
+                solids.add(int(cs.face_solid[faces[-1]]))
+        if not solids:
+            return None
+        sel = np.isin(cs.face_solid[: cs.n_faces], sorted(solids))
+        power = float(self.ledger.untraced[:, sel].sum())
+        return power, [cs.solid_names[s] for s in sorted(solids)]
+
     @property
     def hits_dropped(self) -> int:
         """Detector hits not kept individually because ``max_hits`` was reached.

@@ -471,9 +471,11 @@ class _Tracer:
                 weak = pk < thr[k]
                 if weak.any():
                     led.book(src_i[k[weak]], led.DISCARDED, pk[weak])
+                    led.book_untraced(src_i[k[weak]], _born_at(lf[k[weak]], fi[k[weak]]), pk[weak])
             cut = ~weak & (ev[k] >= self.opts.max_events)
             if cut.any():
                 led.book(src_i[k[cut]], led.CUT, pk[cut])
+                led.book_untraced(src_i[k[cut]], _born_at(lf[k[cut]], fi[k[cut]]), pk[cut])
             live = ~(weak | cut)
             if not live.any():
                 continue
@@ -497,6 +499,11 @@ class _Tracer:
                                             keep.get("t"),
                                             (gain["r"], gain["t"]) if self.mc else None)
         return RayBatch.concatenate(children)
+
+
+def _born_at(last_face, face):
+    """The face a child leaves from (the partner face across a gap), else the face met."""
+    return np.where(last_face >= 0, last_face, face)
 
 
 def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
