@@ -399,3 +399,16 @@ def test_untraced_near_cannot_be_told_without_light(tmp_path):
     assert res.untraced_near("leak") is None
     s = run_summary(analyse(res))
     assert s["detectors"]["leak"]["untraced_near_w"] is None
+
+
+def test_threshold_option_auto_overrides_a_fixed_scene_threshold(tmp_path, capsys):
+    js = tmp_path / "auto.json"
+    code, out, _ = _cli(capsys, "run", _gap_scene(tmp_path, threshold="1e-6"), "--threshold",
+                        "auto", "--json", js)
+    data = json.loads(js.read_text(encoding="utf-8"))
+    assert code == 1 and data["verdict"] == "fail"
+    assert data["settings"]["threshold_choice"]["chosen"] < 1e-6
+    assert data["detectors"]["leak"]["power_w"] > 1e-9
+    with pytest.raises(SystemExit) as exc:
+        main(["run", str(_gap_scene(tmp_path, threshold="1e-6")), "--threshold", "often"])
+    assert exc.value.code == 2 and '"auto"' in capsys.readouterr().err

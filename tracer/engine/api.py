@@ -15,7 +15,8 @@ __all__ = ["trace", "SETTINGS", "launch_counts"]
 #: Settings :func:`trace` accepts, with their meaning.
 SETTINGS = {
     "mode": '"tree" (split every ray) or "monte-carlo" (one child per event); default from the scene',
-    "power_threshold": "children below this fraction of their source ray's power are discarded [1]",
+    "power_threshold": "children below this fraction of their source ray's power are discarded [1]; "
+                       '"auto": chosen so that the requirement verdicts are conclusive',
     "max_events": "rays reaching this many events are cut",
     "seed": "random seed (sources with random sampling, Monte Carlo choices); default from the scene",
     "rays": "geometric rays per spectral line: an int for every source, or {source: int}",
@@ -169,12 +170,14 @@ def trace(scene, **settings) -> Result:
     True
     """
     st = scene.settings
-    if (getattr(st, "auto_threshold", False) and settings.get("power_threshold") is None
-            and settings.get("ray_range") is None):
-        from ..analysis.auto_threshold import trace_auto
-
+    thr = settings.get("power_threshold")
+    wants_auto = isinstance(thr, str) and thr.strip().lower() == "auto"
+    if wants_auto or thr is None:
         settings.pop("power_threshold", None)
-        return trace_auto(scene, _trace_once, **settings)
+        if (wants_auto or getattr(st, "auto_threshold", False)) and settings.get("ray_range") is None:
+            from ..analysis.auto_threshold import trace_auto
+
+            return trace_auto(scene, _trace_once, **settings)
     return _trace_once(scene, **settings)
 
 
