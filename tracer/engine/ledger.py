@@ -27,6 +27,7 @@ crossing and direction).
 >>> led.book(np.array([0]), led.DISCARDED, np.array([0.25]))
 >>> led.totals()["detected_w"], led.totals()["discarded_w"]
 (0.75, 0.25)
+
 A third non-closing table, ``behind[source, detector]`` [W], holds the power that
 crossed each one-sided plane detector from behind (through its back, where it is
 transparent): that light goes on and ends elsewhere, so it is not part of the accounts.
