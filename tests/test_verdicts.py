@@ -412,3 +412,17 @@ def test_threshold_option_auto_overrides_a_fixed_scene_threshold(tmp_path, capsy
     with pytest.raises(SystemExit) as exc:
         main(["run", str(_gap_scene(tmp_path, threshold="1e-6")), "--threshold", "often"])
     assert exc.value.code == 2 and '"auto"' in capsys.readouterr().err
+
+
+def test_tolerance_yield_counts_inconclusive_trials_as_not_passing():
+    from tracer.sweep.tolerance_result import ToleranceResult
+
+    rows = [{"req.r": 0.5, "pass.r": True, "verdict.r": "pass"},
+            {"req.r": 0.0, "pass.r": False, "verdict.r": "inconclusive"},
+            {"req.r": 2.0, "pass.r": False, "verdict.r": "fail"},
+            {"req.r": 0.1, "pass.r": True, "verdict.r": "pass"}]
+    tr = ToleranceResult(tolerances=[], deltas=np.zeros((4, 0)), values=[{}] * 4, rows=rows,
+                         nominal=rows[0], requirements={"r": ("<=", 1.0)})
+    assert tr.yield_fraction() == 0.5 and tr.yield_fraction("r") == 0.5
+    assert tr.inconclusive_count("r") == 1
+    assert "1 trial(s) inconclusive" in tr.format_text()
