@@ -4,7 +4,7 @@ Each subcommand lives in its own module under :mod:`tracer.commands` and provide
 ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args) -> int``. This module
 only parses, dispatches and turns user errors into exit code 2.
 
-Exit codes: 0 success, 1 a requirement failed, 2 input error.
+Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error.
 """
 
 from __future__ import annotations
@@ -55,7 +55,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(
         prog="tracer",
         description="Polarisation-aware ray tracing of prism assemblies: where every milliwatt goes.",
-        epilog="Exit codes: 0 success, 1 a requirement failed, 2 input error.",
+        epilog="Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error.",
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"tracer {__version__}")

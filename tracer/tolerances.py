@@ -125,6 +125,23 @@ PATH_POWER_TIE_DIGITS = 10
 
 __all__ += ["PATH_POWER_TIE_DIGITS"]
 
+#: ``power_threshold = "auto"``: the first threshold tried [1] (the former default).
+AUTO_THRESHOLD_START = 1e-6
+
+#: ``power_threshold = "auto"``: the lowest threshold tried [1].
+AUTO_THRESHOLD_FLOOR = 1e-15
+
+#: ``power_threshold = "auto"``: default cost limit, all traces together at most this many
+#: times the events of the first trace [1].
+AUTO_THRESHOLD_COST = 30.0
+
+#: ``power_threshold = "auto"``: the untraced power aimed for is this fraction of the
+#: smallest margin an inconclusive requirement needs [1].
+AUTO_THRESHOLD_MARGIN = 0.1
+
+__all__ += ["AUTO_THRESHOLD_START", "AUTO_THRESHOLD_FLOOR", "AUTO_THRESHOLD_COST",
+            "AUTO_THRESHOLD_MARGIN"]
+
 # --- sweeps and tolerancing (tracer.sweep) ------------------------------------------------
 
 #: A tolerance-run result whose spread over the trials is below this fraction of its

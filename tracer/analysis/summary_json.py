@@ -37,7 +37,25 @@ class RunAnalysis:
 
     @property
     def passed(self) -> bool:
+        """True when every requirement passed conclusively (also for none)."""
         return all(v.passed for v in self.verdicts)
+
+    @property
+    def verdict(self) -> str:
+        """``"pass"``, ``"fail"`` (any requirement failed) or ``"inconclusive"``."""
+        kinds = {v.verdict for v in self.verdicts}
+        return "fail" if "fail" in kinds else "inconclusive" if "inconclusive" in kinds else "pass"
+
+    @property
+    def warnings(self) -> list[str]:
+        """Detectors reading 0 W while power went untraced; light crossing detectors from
+        behind; for a detector with an inconclusive verdict, the untraced power left on its
+        side of the assembly (when that can be told)."""
+        from .requirements import behind_warnings, untraced_notes, zero_power_warnings
+
+        unsure = {v.subject for v in self.verdicts if v.verdict == "inconclusive"}
+        return (zero_power_warnings(self.result) + behind_warnings(self.result)
+                + (untraced_notes(self.result, unsure) if unsure else []))
 
 
 def analyse(result) -> RunAnalysis:
@@ -64,7 +82,20 @@ def _settings(result) -> dict:
         rays_requested=(o.rays if isinstance(o.rays, (int, type(None))) else dict(o.rays)),
         rays_launched={n: int(result.launched[i]) for i, n in enumerate(result.source_names)},
         ray_range=_ray_range(getattr(o, "ray_range", None)),
+        threshold_choice=_choice(getattr(result, "threshold_choice", None)),
     )
+
+
+def _choice(choice):
+    """How ``power_threshold = "auto"`` chose (None: the threshold was set)."""
+    if not choice:
+        return None
+    return dict(mode=str(choice["mode"]), chosen=float(choice["chosen"]),
+                max_events=int(choice["max_events"]), reason=str(choice["reason"]),
+                cost_limit=float(choice["cost_limit"]), events_total=int(choice["events_total"]),
+                attempts=[dict(threshold=float(a["threshold"]), max_events=int(a["max_events"]),
+                               events=int(a["events"]), untraced_w=float(a["untraced_w"]),
+                               inconclusive=list(a["inconclusive"])) for a in choice["attempts"]])
 
 
 def _ray_range(r):
@@ -97,6 +128,10 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
     for name, table in analysis.ghosts.items():
         d = table.to_dict(limit=max_paths)
         d.pop("detector")
+        d["behind_w"] = float(res.behind_power(name)) if hasattr(res, "behind_power") else 0.0
+        near = res.untraced_near(name) if hasattr(res, "untraced_near") else None
+        d["untraced_near_w"] = None if near is None else float(near[0])
+        d["untraced_near_solids"] = None if near is None else list(near[1])
         detectors[name] = d
     ledger = dict(
         source_w=src,
@@ -129,6 +164,8 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         hits_dropped=int(getattr(res, "hits_dropped", 0)),
         requirements=[_verdict_dict(v, scene) for v in analysis.verdicts],
         passed=analysis.passed,
+        verdict=analysis.verdict,
+        warnings=analysis.warnings,
     )
 
 

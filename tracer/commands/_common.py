@@ -60,10 +60,12 @@ def _seed(text: str) -> int:
 
 
 def _fraction(text: str) -> float:
+    if text.strip().lower() == "auto":
+        return "auto"
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a fraction such as 1e-6, got {text!r}") from None
+        raise argparse.ArgumentTypeError(f'expected a fraction such as 1e-6 or "auto", got {text!r}') from None
     if not 0 <= value < 1:
         raise argparse.ArgumentTypeError(f"expected a fraction in [0, 1), got {text!r}")
     return value
@@ -85,7 +87,8 @@ def add_trace_options(parser) -> None:
     g.add_argument("--seed", type=_seed, metavar="N", help="random seed")
     g.add_argument("--threshold", type=_fraction, metavar="X",
                    help="power threshold: children below this fraction of their source ray's "
-                        "power are discarded")
+                        'power are discarded; "auto": lowered until the requirement verdicts '
+                        "are conclusive")
     g.add_argument("--max-events", type=_positive_int, metavar="N",
                    help="rays reaching this many events are cut")
     g.add_argument("--mode", choices=("tree", "monte-carlo"),

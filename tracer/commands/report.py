@@ -6,8 +6,8 @@ the power budget with its closure residual, ghost tables, the design path when t
 declares a sequence, the figures (embedded PNG, no external files) and the tool version
 with the trace settings. Open it in any browser or print it to PDF.
 
-Exit code 1 when a requirement of any scene fails (the report is written all the same),
-2 for an input error, else 0.
+Exit code 1 when a requirement of any scene fails or is inconclusive (the report is
+written all the same), 2 for an input error, else 0.
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ EXAMPLES = """examples:
   tracer report scenes/cube_beamsplitter_camera.toml --rays 400 --threshold 1e-8 --out reports
   tracer report scenes/plate_ghost.toml --no-figures --json plate.json
 
-exit codes: 0 success, 1 a requirement failed, 2 input error
+exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error
 """
 
 
@@ -60,7 +60,8 @@ def run(args) -> int:
             write_json(run_summary(rep.analysis), args.json)
         if not rep.passed:
             failed = True
-            print(f"{path}: requirement failed")
+            print(f"{path}: requirement "
+                  + ("failed" if rep.analysis.verdict == "fail" else "inconclusive"))
             print(format_verdicts(rep.analysis.verdicts))
         if not args.quiet:
             extra = f" ({len(rep.figures)} figures)" if not args.no_figures else ""

@@ -10,8 +10,13 @@ With ``--out DIR`` it also writes ``summary.json``, ``budget.csv``, one
 figure and a ray diagram as PNG. ``--json PATH`` writes the JSON summary (layout in
 docs/json-summary.md) anywhere.
 
-Exit code 1 when any requirement fails (the failing ones are listed), 2 for an input
-error (every problem of the scene is printed), else 0.
+A requirement passes only when it would still pass had all the discarded and cut power
+gone the worst way for it; otherwise it is inconclusive (the bound is shown, with what to
+do). With power_threshold = "auto" (the default when the scene does not set it) the trace
+is repeated with lower thresholds until the verdicts are conclusive, within a cost limit.
+
+Exit code 1 when any requirement fails or is inconclusive (they are listed), 2 for an
+input error (every problem of the scene is printed), else 0.
 """
 
 from __future__ import annotations
@@ -29,7 +34,7 @@ EXAMPLES = """examples:
   tracer run scenes/cube_beamsplitter_camera.toml --threshold 1e-8 --json cube.json --quiet
   tracer run scenes/penta_prism_laser.toml --top 5 --seed 7
 
-exit codes: 0 success, 1 a requirement failed, 2 input error
+exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error
 """
 
 
@@ -61,6 +66,10 @@ def run(args) -> int:
               f"mode {result.options.mode}, seed {result.options.seed}, "
               f"power threshold {result.options.power_threshold:g}, "
               f"at most {result.options.max_events} events per ray")
+        if result.threshold_choice:
+            from ..analysis.auto_threshold import describe_choice
+
+            print(describe_choice(result.threshold_choice))
         print()
         print(analysis.budget.format_text())
         for table in analysis.ghosts.values():
@@ -71,6 +80,9 @@ def run(args) -> int:
             print("detectors: none declared, so no light is recorded (the budget above still "
                   "closes); add a [detectors.NAME] table to get ghost tables")
         print()
+    warnings = analysis.warnings
+    if warnings:
+        c.say(args, *warnings, "")
     if analysis.verdicts and (not args.quiet or not analysis.passed):
         print(format_verdicts(analysis.verdicts))
         from ..analysis.leakage import leakage_notes

@@ -31,6 +31,13 @@ the gap twice is counted twice (once per crossing and direction).
 >>> led.book(np.array([0]), led.DISCARDED, np.array([0.25]))
 >>> led.totals()["detected_w"], led.totals()["discarded_w"]
 (0.75, 0.25)
+
+A third non-closing table, ``behind[source, detector]`` [W], holds the power that
+crossed each one-sided plane detector from behind (through its back, where it is
+transparent): that light goes on and ends elsewhere, so it is not part of the accounts.
+And ``untraced[source, face]`` [W] says where the discarded and cut power was left: at
+which face the discarded or cut child was born (the discarded and cut accounts by face).
+
 >>> led = Ledger(["src"], detectors=[], faces=["a.h", "b.h"], bulks=["ambient", "a", "b"],
 ...              gaps=[("g", 0, 1)])
 >>> led.book_tunnels(np.array([0, 0]), np.array([0, 1]), np.array([3, 3]), np.array([0.5, 0.25]))
@@ -97,6 +104,8 @@ class Ledger:
             self._face_side[[fa, fb]] = (0, 1)
         self.tunnel = np.zeros((len(self.sources), len(self.gaps), 2))
         self.refract = np.zeros((len(self.sources), len(self.gaps), 2))
+        self.behind = np.zeros((len(self.sources), len(self.detectors)))
+        self.untraced = np.zeros((len(self.sources), len(self.faces)))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -190,6 +199,33 @@ class Ledger:
         table += np.bincount(flat, weights=np.asarray(power, dtype=float)[sel],
                              minlength=table.size).reshape(table.shape)
 
+    def book_behind(self, source, detector, power) -> None:
+        """Add ``power`` [W] that crossed plane detector ``detector`` from behind."""
+        power = np.asarray(power, dtype=float)
+        if power.size == 0:
+            return
+        flat = np.asarray(source, dtype=np.int64) * len(self.detectors) + np.asarray(detector)
+        self.behind += np.bincount(flat, weights=power,
+                                   minlength=self.behind.size).reshape(self.behind.shape)
+
+    def book_untraced(self, source, face, power) -> None:
+        """Add discarded or cut ``power`` [W] of children born at global face ``face``."""
+        power = np.asarray(power, dtype=float)
+        if power.size == 0:
+            return
+        flat = np.asarray(source, dtype=np.int64) * len(self.faces) + np.asarray(face)
+        self.untraced += np.bincount(flat, weights=power,
+                                     minlength=self.untraced.size).reshape(self.untraced.shape)
+
+    def behind_power(self, detector=None, *, source=None) -> float:
+        """Power [W] that crossed ``detector`` (index; all when None) from behind."""
+        b = self.behind
+        if source is not None:
+            b = b[source : source + 1]
+        if detector is not None:
+            b = b[:, int(detector) : int(detector) + 1]
+        return float(b.sum())
+
     def _gap_sum(self, table, gap, source, side) -> float:
         t = table
         if source is not None:
@@ -245,6 +281,8 @@ class Ledger:
         self.launched += other.launched
         self.tunnel += other.tunnel
         self.refract += other.refract
+        self.behind += other.behind
+        self.untraced += other.untraced
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):

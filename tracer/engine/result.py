@@ -69,6 +69,8 @@ class Result:
         self._nodes = recorder.node_table()
         self._slot = {int(n): i for i, n in enumerate(self._nodes["nodes"])}
         self._hits = None
+        #: How ``power_threshold = "auto"`` chose the threshold (None: set explicitly).
+        self.threshold_choice = None
 
     # ------------------------------------------------------------------ basics
     @property
@@ -182,6 +184,61 @@ class Result:
         rows = [cs.solid_names.index(spec.solid_a) + 1, cs.solid_names.index(spec.solid_b) + 1]
         n_gap = tab[cs.n_solids + 1 + gi]
         return bool((np.maximum(tab[rows[0]], tab[rows[1]]) > n_gap).any())
+
+    def behind_power(self, detector: str, *, source: str | None = None) -> float:
+        """Power [W] that crossed one-sided plane detector ``detector`` from behind.
+
+        A one-sided detector records light arriving on its front (against its
+        ``normal``) and is transparent from behind: light crossing it from behind goes
+        on unchanged and is not part of its reading. That power is counted here (0 for
+        two-sided and far-field detectors); flip ``normal`` or set ``two_sided`` if it
+        should be recorded.
+        """
+        cs = self.compiled
+        if detector in [d.name for d in cs.far_fields]:
+            return 0.0
+        if detector not in cs.detector_names:
+            raise KeyError(self._unknown_detector(detector))
+        led = self.ledger
+        si = None
+        if source is not None:
+            if source not in led.sources:
+                raise KeyError(f"unknown source {source!r}; sources: {', '.join(led.sources)}")
+            si = led.sources.index(source)
+        return led.behind_power(cs.detector_names.index(detector), source=si)
+
+    def untraced_near(self, detector: str):
+        """Discarded and cut power [W] left on the detector's side of the assembly.
+
+        The detector's side is the set of solids its light last leaves: the solid of the
+        last face of every path recorded on it. The power returned was discarded (under
+        the power threshold) or cut (at the event cap) as it was born at a face of one of
+        those solids, so it had already reached that part of the assembly; where it would
+        have gone is unknown. Not a bound (light discarded elsewhere may also have come
+        here; the verdicts use all the discarded and cut power).
+
+        Returns
+        -------
+        (float, list of str) or None
+            The power and the solids; None when no path reaches the detector (or it is a
+            far-field detector), so the side cannot be told.
+        """
+        cs = self.compiled
+        if detector not in cs.detector_names:
+            if detector in [d.name for d in cs.far_fields]:
+                return None
+            raise KeyError(self._unknown_detector(detector))
+        solids = set()
+        for n in self.path_nodes(detector):
+            ev = self.tree.events(n)
+            faces = [f for f, _ in ev if 0 <= f < cs.n_faces]
+            if faces:
+                solids.add(int(cs.face_solid[faces[-1]]))
+        if not solids:
+            return None
+        sel = np.isin(cs.face_solid[: cs.n_faces], sorted(solids))
+        power = float(self.ledger.untraced[:, sel].sum())
+        return power, [cs.solid_names[s] for s in sorted(solids)]
 
     @property
     def hits_dropped(self) -> int:
@@ -412,6 +469,7 @@ class Result:
                        for p in ps[:max_paths]],
                 paths_total=len(ps),
                 hits_dropped=self.hits_dropped_on(name),
+                behind_w=self.behind_power(name),
             )
         for d in self.compiled.far_fields:
             out["detectors"][d.name] = dict(kind="far_field", power_w=self.detector_power(d.name),

@@ -5,7 +5,9 @@ finds the nearest face or detector of each (:mod:`tracer.engine.intersect`), app
 bulk absorption over the segment, and then, by face type,
 
 * detector: the ray is recorded and ends there (a detector is opaque from its
-  sensitive side; a one-sided detector is transparent from behind);
+  sensitive side; a one-sided detector is transparent from behind, and the power that
+  crosses it from behind is booked apart, :meth:`Ledger.book_behind`, without changing
+  where the light goes);
 * absorber: the ray ends, its power is booked as absorbed on the face;
 * any other face: the ray splits into reflected and transmitted children
   (:func:`tracer.engine.interact.split`); the face books what the children do not
@@ -31,6 +33,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import polarization as pol
+from ..tolerances import PLANE_EPS
 from . import children_kernel, detect_kernel, hash_kernel, jit
 from .batch import RayBatch, SourceTable
 from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
@@ -277,6 +280,42 @@ class _Tracer:
         self.kappa_any = bool((self.ntab.imag > 0).any())
         self.coh_len = coherence  # (W,) coherence length per wavelength column
         self.mc = opts.mode == "monte-carlo"
+        self.one_sided = np.nonzero(~np.asarray(cs.det_two_sided, dtype=bool))[0]
+
+    def _behind(self, b: RayBatch, t, src) -> None:
+        """Book the power of rays that cross a one-sided detector from behind.
+
+        A ray crosses detector ``d`` from behind on its current segment (``0 < s < t``,
+        ``t`` the distance to its next event, inf when it meets nothing) when it moves
+        along the detector's normal (``direction . normal > 0``: the front faces the
+        light coming against the normal) and the crossing point is inside the detector's
+        rectangle. The power booked is the ray's power at the crossing (after bulk
+        absorption over the distance travelled, Beer--Lambert).
+        """
+        cs, led = self.cs, self.ledger
+        for d in self.one_sided:
+            nrm = cs.det_normal[d]
+            den = b.direction @ nrm
+            back = den > 0
+            if not back.any():
+                continue
+            rows = np.nonzero(back)[0]
+            s = (cs.det_position[d] @ nrm - b.origin[rows] @ nrm) / den[rows]
+            ok = (s > PLANE_EPS) & (s < t[rows])
+            if not ok.any():
+                continue
+            rows, s = rows[ok], s[ok]
+            rel = b.origin[rows] + s[:, None] * b.direction[rows] - cs.det_position[d]
+            inb = ((np.abs(rel @ cs.det_x[d]) <= cs.det_half[d, 0])
+                   & (np.abs(rel @ cs.det_y[d]) <= cs.det_half[d, 1]))
+            if not inb.any():
+                continue
+            rows, s = rows[inb], s[inb]
+            power = b.power[rows]
+            if self.kappa_any:
+                kap = self.ntab[b.medium[rows] + 1, b.wl_index[rows]].imag
+                power = power * np.exp(-4.0 * np.pi * kap * s / b.wavelength[rows])
+            led.book_behind(src[rows], np.full(len(rows), d), power)
 
     def step(self, b: RayBatch, table: SourceTable) -> RayBatch:
         """One event for every ray of ``b``; returns the batch of surviving children.
@@ -289,6 +328,8 @@ class _Tracer:
         cs, led, tree, rec = self.cs, self.ledger, self.tree, self.rec
         src = table.source[b.root]
         t, face = nearest_hit(cs, b.origin, b.direction, b.medium, b.last_face)
+        if len(self.one_sided):
+            self._behind(b, t, src)
         miss = face < 0
         if miss.any():
             out = miss & (b.medium < 0)
@@ -417,9 +458,11 @@ class _Tracer:
                 weak = pk < thr[k]
                 if weak.any():
                     led.book(src_i[k[weak]], led.DISCARDED, pk[weak])
+                    led.book_untraced(src_i[k[weak]], _born_at(lf[k[weak]], fi[k[weak]]), pk[weak])
             cut = ~weak & (ev[k] >= self.opts.max_events)
             if cut.any():
                 led.book(src_i[k[cut]], led.CUT, pk[cut])
+                led.book_untraced(src_i[k[cut]], _born_at(lf[k[cut]], fi[k[cut]]), pk[cut])
             live = ~(weak | cut)
             if not live.any():
                 continue
@@ -443,6 +486,11 @@ class _Tracer:
                                             keep.get("t"),
                                             (gain["r"], gain["t"]) if self.mc else None)
         return RayBatch.concatenate(children)
+
+
+def _born_at(last_face, face):
+    """The face a child leaves from (the partner face across a gap), else the face met."""
+    return np.where(last_face >= 0, last_face, face)
 
 
 def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):

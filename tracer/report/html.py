@@ -19,7 +19,7 @@ __all__ = ["render_html", "CSS"]
 
 CSS = """
 :root { --ink:#1f2328; --muted:#59636e; --line:#d0d7de; --soft:#f6f8fa; --pass:#1a7f37;
-        --fail:#cf222e; --accent:#0b5cad; --warn-bg:#fff8c5; --warn-line:#d4a72c; }
+        --fail:#cf222e; --unsure:#9a6700; --accent:#0b5cad; --warn-bg:#fff8c5; --warn-line:#d4a72c; }
 * { box-sizing: border-box; }
 html { font-size: 15px; }
 body { margin: 0; color: var(--ink); background: #fff;
@@ -38,6 +38,7 @@ p { margin: 6px 0; }
 .verdict-box { display: inline-block; padding: 3px 12px; border-radius: 14px; font-weight: 650;
                color: #fff; background: var(--pass); }
 .verdict-box.fail { background: var(--fail); }
+.verdict-box.inconclusive { background: var(--unsure); }
 table { border-collapse: collapse; margin: 6px 0 12px; font-size: 0.93rem; }
 th, td { padding: 4px 10px; border-bottom: 1px solid var(--line); vertical-align: top; }
 th { text-align: left; font-weight: 620; background: var(--soft); white-space: nowrap; }
@@ -48,6 +49,7 @@ tr.design td { background: #eef6ff; }
 tr.total td { font-weight: 650; border-top: 2px solid var(--line); }
 .pass { color: var(--pass); font-weight: 650; }
 .fail { color: var(--fail); font-weight: 650; }
+.inconclusive { color: var(--unsure); font-weight: 650; }
 .note { color: var(--muted); font-size: 0.9rem; }
 figure { margin: 14px 0 22px; }
 figure img { max-width: 100%; height: auto; border: 1px solid var(--line); border-radius: 4px; }
@@ -174,26 +176,42 @@ def _leakage_notes(result, verdicts) -> list:
     return leakage_notes(result, verdicts)
 
 
-def _verdicts_section(verdicts, notes=()) -> str:
+def _verdicts_section(verdicts, warnings=(), notes=()) -> str:
     from ..analysis.requirements import _fmt
 
     parts = ["<h2>Requirements</h2>"]
     if not verdicts:
         parts.append('<p class="note">The scene declares no requirement.</p>')
-        return "\n".join(parts)
-    failed = [v for v in verdicts if not v.passed]
-    if failed:
-        parts.append(f'<p><span class="verdict-box fail">{len(failed)} of {len(verdicts)} failed</span></p>')
     else:
-        parts.append(f'<p><span class="verdict-box">all {len(verdicts)} passed</span></p>')
-    what = {"min_power": "minimum power", "max_ghost_fraction": "maximum ghost fraction",
-            "max_leakage": "maximum gap leakage"}
-    rows = [[v.name, what.get(v.kind, v.kind), v.subject, _fmt(v.value, v.unit),
-             f"{v.comparison} {_fmt(v.limit, v.unit)}",
-             _Raw("pass" if v.passed else "FAIL", "pass" if v.passed else "fail")] for v in verdicts]
-    parts.append(_table(["requirement", "checks", "on", "value", "limit", "verdict"], rows, num=(3, 4)))
+        failed = [v for v in verdicts if v.verdict == "fail"]
+        unsure = [v for v in verdicts if v.verdict == "inconclusive"]
+        boxes = []
+        if failed:
+            boxes.append(f'<span class="verdict-box fail">{len(failed)} of {len(verdicts)} '
+                         "failed</span>")
+        if unsure:
+            boxes.append(f'<span class="verdict-box inconclusive">{len(unsure)} of '
+                         f"{len(verdicts)} inconclusive</span>")
+        if not boxes:
+            boxes.append(f'<span class="verdict-box">all {len(verdicts)} passed</span>')
+        parts.append("<p>" + " ".join(boxes) + "</p>")
+        what = {"min_power": "minimum power", "max_power": "maximum power",
+                "max_ghost_fraction": "maximum ghost fraction", "max_leakage": "maximum gap leakage"}
+        label = {"pass": "pass", "fail": "FAIL", "inconclusive": "INCONCLUSIVE"}
+        rows = [[v.name, what.get(v.kind, v.kind), v.subject, _fmt(v.value, v.unit),
+                 _fmt(v.bound, v.unit), f"{v.comparison} {_fmt(v.limit, v.unit)}",
+                 _Raw(label[v.verdict], v.verdict)] for v in verdicts]
+        parts.append(_table(["requirement", "checks", "on", "value", "worst case", "limit",
+                             "verdict"], rows, num=(3, 4, 5)))
+        parts.append('<p class="note">A requirement passes only when its worst case (all '
+                     "discarded and cut power gone the worst way for it) meets the limit; it is "
+                     "inconclusive when only the worst case misses it.</p>")
+        for v in unsure:
+            parts.append(f'<p class="note">{html.escape(v.advice())}</p>')
+    for w in warnings:
+        parts.append(f'<p class="note">{html.escape(w)}</p>')
     for line in notes:  # what crossed each judged gap, by mechanism
-        parts.append(f'<p class="note">{e(line.strip())}</p>')
+        parts.append(f'<p class="note">{html.escape(line.strip())}</p>')
     return "\n".join(parts)
 
 
@@ -370,7 +388,8 @@ def render_html(*, analysis, scene_summary: dict, figures: list, sequence: dict 
             f'<p class="sub">Stray-light and power report · tracer {e(__version__)} · '
             f"{e(str(scene_summary.get('file') or ''))}</p>",
             CAUTION_HTML,
-            _verdicts_section(analysis.verdicts, _leakage_notes(res, analysis.verdicts)),
+            _verdicts_section(analysis.verdicts, getattr(analysis, "warnings", ()),
+                              _leakage_notes(res, analysis.verdicts)),
             _scene_section(scene_summary),
             _budget_section(analysis.budget, budget_fig),
             _ghost_section(analysis.ghosts, ghost_limit),
@@ -382,7 +401,9 @@ def render_html(*, analysis, scene_summary: dict, figures: list, sequence: dict 
             body.append('<p class="note">Not drawn: ' + e("; ".join(f"{k} ({why})" for k, why in skipped))
                         + "</p>")
     settings = [("tool", f"tracer {__version__}"), ("mode", o.mode), ("seed", str(o.seed)),
-                ("power threshold", f"{o.power_threshold:g} of the source ray's power"),
+                ("power threshold", f"{o.power_threshold:g} of the source ray's power"
+                 + (f" (auto: {res.threshold_choice['reason']})"
+                    if getattr(res, "threshold_choice", None) else "")),
                 ("event cap", f"{o.max_events} events per ray"),
                 ("source rays", ", ".join(f"{n}: {int(res.launched[i])}"
                                            for i, n in enumerate(res.source_names))),

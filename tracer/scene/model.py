@@ -76,12 +76,23 @@ class TraceSettings:
         Rays that have undergone this many events are cut and their power booked as cut.
     sequence : tuple of str or None
         Optional design path, as ``"solid.face"`` strings, for the sequential mode.
+    auto_threshold : bool
+        ``power_threshold = "auto"`` (the default of scene files that do not set it):
+        ``power_threshold`` is only the first try; the trace is repeated with a lower
+        threshold (and a higher event cap when cut power is the problem) until every
+        requirement's verdict is conclusive, within ``auto_cost``
+        (:mod:`tracer.analysis.auto_threshold`).
+    auto_cost : float [1]
+        With ``auto_threshold``: the retraces stop once all traces together have cost this
+        many times the events of the first trace.
     """
 
     mode: Literal["tree", "monte-carlo"] = "tree"
     power_threshold: float = 1e-6
     max_events: int = 64
     sequence: tuple[str, ...] | None = None
+    auto_threshold: bool = False
+    auto_cost: float = 30.0
 
 
 @dataclass(frozen=True)
@@ -260,7 +271,8 @@ class RequirementSpec:
 
     kind
         ``min_power``: power on ``detector`` >= ``limit`` [W] (or, with
-        ``relative``, fraction of total source power). ``max_ghost_fraction``: power of
+        ``relative``, fraction of total source power). ``max_power``: power on
+        ``detector`` <= ``limit`` (same units). ``max_ghost_fraction``: power of
         the ghost paths on ``detector`` / the design signal (design path and the paths
         equivalent to it, :mod:`tracer.analysis.ghosts`) <= ``limit``.
         ``max_leakage``: power crossing ``gap`` / source power <= ``limit``; which
@@ -270,7 +282,7 @@ class RequirementSpec:
     """
 
     name: str
-    kind: Literal["min_power", "max_ghost_fraction", "max_leakage"]
+    kind: Literal["min_power", "max_power", "max_ghost_fraction", "max_leakage"]
     limit: float
     detector: str | None = None
     gap: str | None = None

@@ -1,4 +1,4 @@
-"""``[requirements.NAME]``: checks a run evaluates (minimum power, ghosts, leakage)."""
+"""``[requirements.NAME]``: checks a run evaluates (minimum and maximum power, ghosts, leakage)."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from .reader import Table
 
 __all__ = ["read_requirement", "REQUIREMENT_KINDS"]
 
-REQUIREMENT_KINDS = ("min_power", "max_ghost_fraction", "max_leakage")
+REQUIREMENT_KINDS = ("min_power", "max_power", "max_ghost_fraction", "max_leakage")
 
 #: What a ``max_leakage`` requirement judges (``mechanism`` key): every crossing of the
 #: gap (default), only frustrated TIR, or only refraction below the critical angle.
@@ -32,7 +32,8 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     """One ``[requirements.NAME]`` table.
 
     ``min_power``: ``detector`` and ``limit`` as a power ("1 mW", absolute) or a
-    fraction (0.5 or "50 %", of the total source power). ``max_ghost_fraction``:
+    fraction (0.5 or "50 %", of the total source power); ``max_power`` likewise ("1 nW",
+    or "0.1 ppm" of the source power). ``max_ghost_fraction``:
     ``detector`` and ``limit`` (fraction). ``max_leakage``: ``gap`` and ``limit``
     (fraction of the source power).
     """
@@ -41,7 +42,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     relative = True
     limit = None
     mechanism = "crossed"
-    if kind in ("min_power", "max_ghost_fraction"):
+    if kind in ("min_power", "max_power", "max_ghost_fraction"):
         detector = _name_ref(t, "detector", build.detector_keys, "detector")
         t.known("gap", "mechanism")
         if "gap" in t.data:
@@ -60,8 +61,8 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     if kind is not None:
         if raw is None:
             t.error(None, 'missing key "limit": expected '
-                    + ('a power such as "1 mW" or a fraction such as "50 %"' if kind == "min_power"
-                       else 'a fraction such as 0.001 or "0.1 %"'))
+                    + ('a power such as "1 mW" or a fraction such as "50 %"'
+                       if kind in ("min_power", "max_power") else 'a fraction such as 0.001 or "0.1 %"'))
         elif isinstance(raw, bool) or not isinstance(raw, (int, float, str)):
             t.error("limit", f"expected a number or a quantity string, got {describe_value(raw)}")
         else:
@@ -74,7 +75,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
 
 
 def _limit(t: Table, kind: str, raw):
-    if kind == "min_power" and isinstance(raw, str):
+    if kind in ("min_power", "max_power") and isinstance(raw, str):
         try:
             value = units.power(raw, default=None)
             return value, False
@@ -84,7 +85,7 @@ def _limit(t: Table, kind: str, raw):
         value = units.fraction(raw)
     except TracerError:
         expected = ('a power such as "1 mW" or a fraction such as 0.5 or "50 %"'
-                    if kind == "min_power" else 'a fraction such as 0.001 or "0.1 %"')
+                    if kind in ("min_power", "max_power") else 'a fraction such as 0.001 or "0.1 %"')
         t.error("limit", f"expected {expected}, got {describe_value(raw)}")
         return None, True
     upper = float("inf") if kind == "max_ghost_fraction" else 1.0

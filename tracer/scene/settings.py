@@ -84,16 +84,29 @@ def read_spectrum(t: Table) -> Spectrum | None:
 def read_trace(t: Table | None) -> tuple[TraceSettings, tuple[str, ...] | None]:
     """The ``trace`` table; the sequence is returned raw for later face checks."""
     if t is None:
-        return TraceSettings(), None
+        return TraceSettings(auto_threshold=True), None
     mode = t.string("mode", default="tree", choices=TRACE_MODES)
-    threshold = t.number("power_threshold", default=1e-6, minimum=0.0, maximum=1.0)
+    raw = t.raw("power_threshold")
+    auto = raw is None or (isinstance(raw, str) and raw.strip().lower() == "auto")
+    threshold = None
+    if isinstance(raw, str) and not auto:
+        t.error("power_threshold", f'expected "auto" or a fraction in [0, 1) such as 1e-6, got '
+                                   f"{describe_value(raw)}")
+    elif not auto:
+        threshold = t.number("power_threshold", minimum=0.0, maximum=1.0)
+    cost = t.number("auto_cost", default=tolerances.AUTO_THRESHOLD_COST, minimum=1.0)
+    if t.has("auto_cost") and not auto:
+        t.note("auto_cost", 'only used with power_threshold = "auto"')
     max_events = t.integer("max_events", default=64, minimum=1, maximum=100_000)
     sequence = t.strings("sequence")
     t.finish()
     settings = TraceSettings(mode=mode or "tree",
-                             power_threshold=threshold if threshold is not None else 1e-6,
+                             power_threshold=threshold if threshold is not None
+                             else tolerances.AUTO_THRESHOLD_START,
                              max_events=max_events or 64,
-                             sequence=tuple(sequence) if sequence else None)
+                             sequence=tuple(sequence) if sequence else None,
+                             auto_threshold=bool(auto),
+                             auto_cost=cost if cost is not None else tolerances.AUTO_THRESHOLD_COST)
     return settings, tuple(sequence) if sequence else None
 
 

@@ -116,7 +116,9 @@ def summarize(scene: Scene) -> dict:
         "ambient": scene.ambient_name,
         "seed": int(scene.seed),
         "spectrum": _spectrum(scene.spectrum),
-        "trace": {"mode": st.mode, "power_threshold": _f(st.power_threshold),
+        "trace": {"mode": st.mode,
+                  "power_threshold": "auto" if getattr(st, "auto_threshold", False)
+                  else _f(st.power_threshold),
                   "max_events": int(st.max_events),
                   "sequence": list(st.sequence) if st.sequence else None},
         "solids": solids,
@@ -152,6 +154,10 @@ def _len(x) -> str:
     return units.format_length(x) if x is not None else "-"
 
 
+def _threshold(x) -> str:
+    return x if isinstance(x, str) else f"{x:g}"
+
+
 def format_summary(summary: dict) -> str:
     """The summary as readable text (gap thickness in µm)."""
     s = summary
@@ -160,7 +166,7 @@ def format_summary(summary: dict) -> str:
              + ", ".join(units.format_wavelength(w) for w in s["spectrum"]["wavelengths_m"])
              + (f" (bandwidth {units.format_wavelength(s['spectrum']['bandwidth_m'])})"
                 if s["spectrum"]["bandwidth_m"] else ""),
-             f"  trace: {s['trace']['mode']}, power threshold {s['trace']['power_threshold']:g}, "
+             f"  trace: {s['trace']['mode']}, power threshold {_threshold(s['trace']['power_threshold'])}, "
              f"at most {s['trace']['max_events']} events"
              + (f", design path {' -> '.join(s['trace']['sequence'])}" if s["trace"]["sequence"] else "")]
     lines.append(f"solids ({len(s['solids'])}):")

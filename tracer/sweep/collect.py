@@ -20,7 +20,9 @@ column                         unit  meaning
 ``top_ghost.DET``              --    its label
 ``leakage.GAP``                1     power that crossed the gap (tunnelled or refracted) over source power
 ``req.REQ``                    W/1   the requirement's measured value
-``pass.REQ``                   --    its verdict (True/False)
+``pass.REQ``                   --    True only for a conclusive pass (False for a
+                                     failure or an inconclusive verdict)
+``verdict.REQ``                --    "pass", "fail" or "inconclusive"
 ``deviation_deg`` ...          deg   from the sequential design path, when asked
 =============================  ====  =================================================
 
@@ -187,6 +189,7 @@ def collect(result, *, groups=("power", "polarization", "ghosts", "leakage", "re
         for v in evaluate(result, ghosts=tables):
             row[f"req.{v.name}"] = float(v.value) if math.isfinite(v.value) else None
             row[f"pass.{v.name}"] = bool(v.passed)
+            row[f"verdict.{v.name}"] = v.verdict
     if "sequence" in groups and sequence_report is not None:
         s = sequence_report.summary()
         row["sequence_complete"] = bool(s["complete"])

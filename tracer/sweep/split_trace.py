@@ -187,12 +187,15 @@ def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     for name, d in first.get("detectors", {}).items():
         parts = [s["detectors"][name] for s in summaries]
         merged = {k: v for k, v in d.items()
-                  if k not in ("paths", "power_w", "hits", "paths_total", "hits_dropped")}
+                  if k not in ("paths", "power_w", "hits", "paths_total", "hits_dropped",
+                               "behind_w")}
         merged["power_w"] = float(sum(p["power_w"] for p in parts))
         if "hits" in d:
             merged["hits"] = int(sum(p.get("hits", 0) for p in parts))
         if "hits_dropped" in d:
             merged["hits_dropped"] = int(sum(p.get("hits_dropped", 0) for p in parts))
+        if "behind_w" in d:
+            merged["behind_w"] = float(sum(p.get("behind_w", 0.0) for p in parts))
         paths, total = _merge_paths([p.get("paths", []) for p in parts], max_paths)
         merged["paths"] = paths
         if "paths_total" in d:

@@ -149,6 +149,10 @@ class ToleranceResult:
                            f"{', '.join(self.requirements) or 'none'}")
         return float(np.mean([bool(r.get(f"pass.{requirement}", False)) for r in self.rows]))
 
+    def inconclusive_count(self, requirement: str) -> int:
+        """Trials whose verdict on ``requirement`` was inconclusive (not counted as passing)."""
+        return int(sum(r.get(f"verdict.{requirement}") == "inconclusive" for r in self.rows))
+
     def margins(self) -> np.ndarray:
         """(N,) smallest normalised requirement margin per trial (negative: fails)."""
         m = np.full(len(self.rows), np.inf)
@@ -245,7 +249,10 @@ class ToleranceResult:
         if self.requirements:
             lines.append(f"yield: {100 * self.yield_fraction():.1f} % of trials pass every requirement")
             for n in self.requirements:
-                lines.append(f"  {n}: {100 * self.yield_fraction(n):.1f} %")
+                unsure = self.inconclusive_count(n)
+                lines.append(f"  {n}: {100 * self.yield_fraction(n):.1f} %"
+                             + (f" ({unsure} trial(s) inconclusive, counted as not passing: lower "
+                                "the power threshold)" if unsure else ""))
             worst = self.worst(3)
             if worst:
                 lines.append("  worst trials (margin: distance of the tightest requirement from its "
