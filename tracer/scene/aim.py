@@ -244,7 +244,7 @@ def read_aim(t: Table, build: Build, spectrum) -> tuple[np.ndarray, np.ndarray, 
     inside_face, edge = _inside_polygon(point, poly_uv)
     if not inside_face or edge <= tolerances.PLANE_EPS:
         lo, hi = poly_uv.min(axis=0), poly_uv.max(axis=0)
-        where = "outside" if not inside_face else "on the edge of"
+        where = "on the edge of" if edge <= tolerances.PLANE_EPS else "outside"
         t.error("point" if t.has("point") else "face",
                 f"the point [{units.format_length(point[0])}, {units.format_length(point[1])}] "
                 f"(u, v from the centroid) lies {where} face {face_ref}, which spans u from "
