@@ -435,3 +435,32 @@ def test_aim_angle_can_be_toleranced():
     load_doc(doc)
     doc["tolerances"]["tilt"]["key"] = "sources.beam.aim.angl"
     assert any(k.startswith("tolerances.tilt") for k, _ in errors_of(doc))
+
+
+# ---------------------------------------------------------------------- the demo
+def test_brewster_window_demo_against_outside_indices():
+    # Brewster's angle from Malitson's silica formula over Ciddor's standard air (written out
+    # in test_crosscheck_oracles), and the window's s and p transmittance from tmm (Byrnes,
+    # "Multilayer optical calculations", 2016) at the scene's angle
+    from pathlib import Path
+
+    import tracer
+    from test_crosscheck_oracles import INF, ciddor, sellmeier, tmm_T
+
+    lam = 632.8e-9
+    n_air = ciddor(lam * 1e6)
+    n_glass = sellmeier(lam * 1e6, (0.6961663, 0.4079426, 0.8974794),
+                        (0.0684043**2, 0.1162414**2, 9.896161**2)) * n_air
+    scene = tracer.load(Path(__file__).resolve().parents[1] / "scenes" / "brewster_window.toml")
+    src = scene.sources["laser"]
+    assert src.aim.angle == pytest.approx(math.atan(n_glass / n_air), abs=math.radians(1e-4))
+    np.testing.assert_allclose(src.direction, [1, 0, 0], atol=1e-12)
+    _check_hits(scene, "laser")
+    row, _ = collect(trace(scene), groups=("polarization",))
+    th = src.aim.angle
+    th_in = math.asin(n_air / n_glass * math.sin(th))
+    for pol in ("s", "p"):
+        t = (tmm_T([n_air, n_glass], [INF, INF], th, lam * 1e9, pol)
+             * tmm_T([n_glass, n_air], [INF, INF], th_in, lam * 1e9, pol))
+        assert row[f"Tdesign.{pol}.screen"] == pytest.approx(t, rel=1e-9)
+    assert row["Tdesign.p.screen"] == pytest.approx(1.0, abs=1e-12)

@@ -1,8 +1,9 @@
 """``[solids.NAME]``: material, shape (catalog kind or construction), placement, faces.
 
 Placement is either ``position`` and ``rotation`` (``[rx, ry, rz]`` in degrees,
-extrinsic about the scene x, then y, then z axes, about the solid's local origin, then
-the translation), or a ``[solids.NAME.mate]`` table that puts one face of this solid
+extrinsic about the scene x, then y, then z axes, about the solid's ``pivot`` -- a local
+point, the centroid of one of its faces, or ``"centroid"``; default the local origin --
+then the translation: ``x = R (x_local - pivot) + pivot + position``), or a ``[solids.NAME.mate]`` table that puts one face of this solid
 against a face of another (:func:`tracer.geometry.mating.mate`: the moving face's frame
 (u, v, n) becomes (-u, v, -n) of the target face, its centroid goes to the target
 centroid + offset_u u + offset_v v + gap n, then it spins by ``spin`` about n and tilts
