@@ -464,3 +464,22 @@ def test_brewster_window_demo_against_outside_indices():
              * tmm_T([n_glass, n_air], [INF, INF], th_in, lam * 1e9, pol))
         assert row[f"Tdesign.{pol}.screen"] == pytest.approx(t, rel=1e-9)
     assert row["Tdesign.p.screen"] == pytest.approx(1.0, abs=1e-12)
+
+
+@pytest.mark.parametrize("inside_deg", [-3.0, 0.0, 3.0, 10.0])
+def test_angle_inside_sets_the_tir_margin_of_a_right_angle_prism(inside_deg):
+    # the refracted ray turned by delta from leg_a's inward normal (+y) meets the hypotenuse
+    # (normal (1, 1)/sqrt 2) at 45 deg + delta; the TIR margin is that minus the critical
+    # angle arcsin(1/n) (Snell's law; common practice, no source)
+    doc = doc_of(PLATE_2D)
+    doc["solids"] = {"p": {"material": "g", "kind": "right_angle_prism", "leg": "20 mm"}}
+    doc["sources"]["beam"]["aim"] = {"face": "p.leg_a", "angle_inside": f"{inside_deg} deg",
+                                     "distance": "10 mm"}
+    doc["detectors"]["refl"] = {"position": [-30, 10], "normal": [1, 0], "width": "400 mm"}
+    scene = load_doc(doc)
+    rep = trace_sequence(scene, ["p.leg_a:T", "p.hypotenuse:R", "p.leg_b"])
+    hyp = rep.steps[1]
+    assert hyp["angle_of_incidence_deg"] == pytest.approx(45 + inside_deg, abs=1e-10)
+    assert hyp["kind"] == "TIR"
+    assert hyp["tir_margin_deg"] == pytest.approx(45 + inside_deg - math.degrees(math.asin(1 / N)),
+                                                  abs=1e-10)
