@@ -22,6 +22,7 @@ __all__ = [
     "SolidSpec",
     "GapSpec",
     "Polarization",
+    "AimSpec",
     "SourceSpec",
     "DetectorSpec",
     "RequirementSpec",
@@ -201,6 +202,42 @@ class Polarization:
 
 
 @dataclass(frozen=True)
+class AimSpec:
+    """How an aimed source (``[sources.NAME.aim]``) was placed; for reports only.
+
+    The loader has already turned it into the source's ``position`` and ``direction``:
+    the central ray leaves ``position`` along ``direction`` and meets ``face`` at
+    ``point`` after ``distance``.
+
+    Attributes
+    ----------
+    face : str
+        ``"solid.face"`` aimed at.
+    point : (3,) float [m]
+        The point of the face the central ray meets (scene frame).
+    angle : float [rad]
+        Signed angle of incidence outside the solid, from the face's inward normal;
+        positive turns the ray right-handed about ``plane_normal``.
+    plane_normal : (3,) float
+        Unit normal of the plane of incidence (it contains the face normal).
+    distance : float [m]
+        From the source's position to ``point``.
+    angle_inside : float or None [rad]
+        The refracted angle inside the solid at ``wavelength``, when the file gave it.
+    wavelength : float or None [m]
+        Vacuum wavelength of that conversion.
+    """
+
+    face: str
+    point: np.ndarray
+    angle: float
+    plane_normal: np.ndarray
+    distance: float
+    angle_inside: float | None = None
+    wavelength: float | None = None
+
+
+@dataclass(frozen=True)
 class SourceSpec:
     """A ray source.
 
@@ -221,6 +258,9 @@ class SourceSpec:
         spectrum by its weights.
     x_axis : (3,) float
         Reference direction of the polarisation frame and of the aperture's width.
+    aim : AimSpec or None
+        Set when the file aimed the source at a face (``position`` and ``direction``
+        follow from it); ``None`` for a source given by position and direction.
     """
 
     name: str
@@ -237,6 +277,7 @@ class SourceSpec:
     half_angle: float = 0.0
     sampling: Literal["grid", "random"] = "grid"
     inside_solid: str | None = None
+    aim: AimSpec | None = None
 
 
 @dataclass(frozen=True)

@@ -1,8 +1,9 @@
 """``[solids.NAME]``: material, shape (catalog kind or construction), placement, faces.
 
 Placement is either ``position`` and ``rotation`` (``[rx, ry, rz]`` in degrees,
-extrinsic about the scene x, then y, then z axes, about the solid's local origin, then
-the translation), or a ``[solids.NAME.mate]`` table that puts one face of this solid
+extrinsic about the scene x, then y, then z axes, about the solid's ``pivot`` -- a local
+point, the centroid of one of its faces, or ``"centroid"``; default the local origin --
+then the translation: ``x = R (x_local - pivot) + pivot + position``), or a ``[solids.NAME.mate]`` table that puts one face of this solid
 against a face of another (:func:`tracer.geometry.mating.mate`: the moving face's frame
 (u, v, n) becomes (-u, v, -n) of the target face, its centroid goes to the target
 centroid + offset_u u + offset_v v + gap n, then it spins by ``spin`` about n and tilts
@@ -31,7 +32,7 @@ from .treatments import PerSubstrate
 __all__ = ["read_solids", "MateRequest", "COMMON_SOLID_KEYS"]
 
 #: Keys every solid table may have, whatever its kind.
-COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "mate", "faces", "note")
+COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "note")
 
 
 @dataclass
@@ -82,7 +83,7 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
             t.known(*t.data)
         mate_t = t.table("mate")
         if mate_t is not None:
-            for bad in ("position", "rotation"):
+            for bad in ("position", "rotation", "pivot"):
                 t.known(bad)
                 if bad in t.data:
                     t.error(bad, f'a mated solid is placed by its [{t.key}.mate] table: remove "{bad}"')
@@ -92,7 +93,8 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
         else:
             position = t.vector("position", "length", default=np.zeros(3), dimension=build.dimension)
             rotation = _read_rotation(t, build)
-            placements[name] = (position, rotation)
+            pivot = _read_pivot(t, build)
+            placements[name] = (position, rotation, pivot)
         faces = _read_faces(t, local, build, material, material_name)
         t.finish(context=f'for a solid of kind "{kind}"' if kind else None)
         if local is None or material is None or faces is None:
@@ -100,12 +102,16 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
         pending[name] = _Pending(name, t, local, material, material_name, kind, faces)
 
     # free-standing solids
-    for name, (position, rotation) in placements.items():
+    for name, (position, rotation, pivot) in placements.items():
         p = pending.get(name)
-        if p is None or position is None or rotation is None:
+        if p is None or position is None or rotation is None or pivot is None:
             continue
+        pivot = _resolve_pivot(p, pivot)
+        if pivot is None:
+            continue
+        R = shapes.rotation_matrix(*rotation)
         try:
-            placed = shapes.place(p.local, shapes.rotation_matrix(*rotation), position)
+            placed = shapes.place(p.local, R, pivot_translation(R, pivot, position))
         except TracerError as exc:
             p.table.error("position", f"cannot place the solid there: {exc}")
             continue
@@ -152,6 +158,49 @@ def _check_2d(p: _Pending, geometry) -> bool:
                             f"z = {lo:.6g} m to {hi:.6g} m")
         return False
     return True
+
+
+def pivot_translation(rotation: np.ndarray, pivot: np.ndarray, position: np.ndarray) -> np.ndarray:
+    """Translation of ``x -> R (x - pivot) + pivot + position`` [m].
+
+    The solid turns by ``rotation`` about its local point ``pivot`` [m], then moves by
+    ``position`` [m]; a zero pivot gives ``position`` exactly (turning about the origin).
+
+    >>> from tracer.geometry.transforms import rotation_matrix
+    >>> pivot_translation(rotation_matrix(rz=np.pi / 2), np.array([1.0, 0, 0]), np.zeros(3)).round(12)
+    array([ 1., -1.,  0.])
+    """
+    pivot = np.asarray(pivot, dtype=float)
+    position = np.asarray(position, dtype=float)
+    if not np.any(pivot):
+        return position
+    return position + pivot - np.asarray(rotation, dtype=float) @ pivot
+
+
+#: Named pivot for the solid's volume centroid (any other name is a face of the solid).
+PIVOT_CENTROID = "centroid"
+
+
+def _read_pivot(t: Table, build: Build):
+    """``pivot``: a local point (lengths), a face name of the solid or ``"centroid"``."""
+    if isinstance(t.data.get("pivot"), str):
+        return t.string("pivot")
+    return t.vector("pivot", "length", default=np.zeros(3), dimension=build.dimension)
+
+
+def _resolve_pivot(p: _Pending, pivot):
+    """The pivot as a local point [m] (a face name means its area centroid)."""
+    if not isinstance(pivot, str):
+        return np.asarray(pivot, dtype=float)
+    if pivot == PIVOT_CENTROID:
+        return np.asarray(p.local.centroid, dtype=float)
+    names = list(p.local.face_names)
+    if pivot not in names:
+        p.table.error("pivot", f'solid "{p.name}" has no face "{pivot}" to turn about'
+                               + did_you_mean(pivot, names + [PIVOT_CENTROID])
+                               + f'; expected a point [x, y, z], one of its faces or "{PIVOT_CENTROID}"')
+        return None
+    return np.asarray(p.local.face_centroid(pivot), dtype=float)
 
 
 def _read_rotation(t: Table, build: Build):

@@ -69,15 +69,16 @@ def default_x_axis(direction: np.ndarray) -> np.ndarray:
 
 
 def frame_axis(t: Table, name: str, direction: np.ndarray | None, build: Build,
-               *, what: str = "direction") -> np.ndarray | None:
-    """Read an optional ``x_axis`` perpendicular to ``direction`` (default: z x direction)."""
+               *, what: str = "direction", default: np.ndarray | None = None) -> np.ndarray | None:
+    """Read an optional ``x_axis`` perpendicular to ``direction`` (default: ``default``, else
+    z x direction)."""
     axis = t.vector(name, None, dimension=build.dimension, unit_length=True)
     if direction is None:
         return None
     if axis is None:
         if t.has(name):
             return None
-        return default_x_axis(direction)
+        return default_x_axis(direction) if default is None else default
     if abs(float(axis @ direction)) > 1e-6:
         t.error(name, f"expected a direction perpendicular to {what} {np.round(direction, 6).tolist()}, "
                       f"got {np.round(axis, 6).tolist()}")
@@ -149,21 +150,27 @@ def read_source(name: str, t: Table, build: Build) -> SourceSpec | None:
     """One ``[sources.NAME]`` table."""
     dim = build.dimension
     kind = t.string("kind", required=True, choices=SOURCE_KINDS)
-    position = t.vector("position", "length", required=True, dimension=dim)
-    isotropic_ok = kind == "point"
-    direction = t.vector("direction", None, required=not isotropic_ok, dimension=dim,
-                         unit_length=True)
-    if direction is None and isotropic_ok and not t.has("direction"):
-        direction = np.array([1.0, 0.0, 0.0])
+    spectrum_t = t.table("spectrum")
+    spectrum = read_spectrum(spectrum_t) if spectrum_t is not None else build.spectrum
+    aim = None
+    if t.has("aim"):
+        position, direction, aim, x_default = _read_aimed(t, build, spectrum)
+    else:
+        position = t.vector("position", "length", required=True, dimension=dim)
+        isotropic_ok = kind == "point"
+        direction = t.vector("direction", None, required=not isotropic_ok, dimension=dim,
+                             unit_length=True)
+        if direction is None and isotropic_ok and not t.has("direction"):
+            direction = np.array([1.0, 0.0, 0.0])
+        x_default = None
     check_in_plane(t, "position", position, build)
     check_in_plane(t, "direction", direction, build)
-    x_axis = frame_axis(t, "x_axis", direction, build)
+    x_axis = frame_axis(t, "x_axis", direction, build, default=x_default,
+                        what="direction" if aim is None else "the aimed direction")
     check_in_plane(t, "x_axis", x_axis, build)
     power = t.quantity("power", "power", required=True, nonnegative=True)
     rays = t.integer("rays", default=100, minimum=1, maximum=100_000_000)
     sampling = t.string("sampling", default="grid", choices=("grid", "random"))
-    spectrum_t = t.table("spectrum")
-    spectrum = read_spectrum(spectrum_t) if spectrum_t is not None else build.spectrum
     polarization = read_polarization(t.table("polarization"))
 
     aperture, size, half_angle, model_kind = "circle", (0.0, 0.0), 0.0, kind
@@ -219,4 +226,27 @@ def read_source(name: str, t: Table, build: Build) -> SourceSpec | None:
     return SourceSpec(name=name, kind=model_kind, position=position, direction=direction,
                       x_axis=x_axis, power=power, rays=rays, spectrum=spectrum,
                       polarization=polarization, aperture=aperture, size=tuple(size),
-                      half_angle=half_angle, sampling=sampling)
+                      half_angle=half_angle, sampling=sampling, aim=aim)
+
+
+def _read_aimed(t: Table, build: Build, spectrum):
+    """``(position, direction, AimSpec, default x_axis)`` of a source with an ``aim`` table.
+
+    The default ``x_axis`` of an aimed source lies in the plane of incidence
+    (``plane x direction``), so that linear polarisation at 0 deg is p and 90 deg is s at
+    the aimed face.
+    """
+    from .aim import read_aim
+    for bad in ("position", "direction"):
+        if t.has(bad):
+            t.error(bad, f'an aimed source is placed by its [{t.key}.aim] table: give either '
+                         f'"position" and "direction" or the aim table, not both (remove "{bad}")')
+    aim_t = t.table("aim")
+    if aim_t is None or spectrum is None:
+        return None, None, None, None
+    got = read_aim(aim_t, build, spectrum)
+    if got is None:
+        return None, None, None, None
+    position, direction, aim = got
+    x = np.cross(aim.plane_normal, direction)
+    return position, direction, aim, x / np.linalg.norm(x)

@@ -87,6 +87,7 @@ def summarize(scene: Scene) -> dict:
             "spectrum": _spectrum(s.spectrum),
             "polarization": {"label": s.polarization.label, "stokes": _v(s.polarization.stokes)},
             "inside_solid": s.inside_solid,
+            "aim": _aim(s.aim),
         }
     detectors = {
         name: {
@@ -132,6 +133,16 @@ def summarize(scene: Scene) -> dict:
     if tolerances:  # only for scenes that carry [tolerances] (checked by the loader)
         out["tolerances"] = tolerances
     return out
+
+
+def _aim(aim) -> dict | None:
+    """The aim of an aimed source (``None`` for a source given by position and direction)."""
+    if aim is None:
+        return None
+    return {"face": aim.face, "point_m": _v(aim.point), "angle_rad": _f(aim.angle),
+            "plane_normal": _v(aim.plane_normal), "distance_m": _f(aim.distance),
+            "angle_inside_rad": None if aim.angle_inside is None else _f(aim.angle_inside),
+            "wavelength_m": None if aim.wavelength is None else _f(aim.wavelength)}
 
 
 def _tolerances(scene: Scene) -> dict:
@@ -194,6 +205,12 @@ def format_summary(summary: dict) -> str:
         else:
             extra = f", half angle {units.format_angle(so['half_angle_rad'])}"
         inside = f", inside {so['inside_solid']}" if so["inside_solid"] else ""
+        aim = so.get("aim")
+        if aim:
+            inside += (f", aimed at {aim['face']} at {units.format_angle(aim['angle_rad'])}"
+                       + (f" ({units.format_angle(aim['angle_inside_rad'])} inside)"
+                          if aim["angle_inside_rad"] is not None else "")
+                       + f" from {_len(aim['distance_m'])}")
         lines.append(f"  {name}: {so['kind']}{extra}, {units.format_power(so['power_W'])}, "
                      f"{so['rays']} rays ({so['sampling']}), {so['polarization']['label']}{inside}")
     lines.append(f"detectors ({len(s['detectors'])}):")
