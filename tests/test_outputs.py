@@ -197,6 +197,13 @@ def test_ctrl_c_is_one_line_and_exit_130(monkeypatch, capsys):
     assert out == "" and len(err.strip().splitlines()) == 1 and "interrupted" in err
 
 
+#: A child in its own session with SIGINT at its default (a shell's background job would
+#: otherwise inherit SIGINT ignored), as after Ctrl-C in a terminal.
+_SIGINT_CHILD = dict(start_new_session=True,
+                     preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
 def test_sigint_to_a_real_process_exits_130_without_traceback(tmp_path):
     # a child that starts a long trace of the TIR pair, then receives SIGINT
     script = textwrap.dedent(f"""
@@ -208,7 +215,7 @@ def test_sigint_to_a_real_process_exits_130_without_traceback(tmp_path):
     """)
     env = dict(os.environ, PYTHONPATH=str(ROOT))
     proc = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True, env=env)
+                            stderr=subprocess.PIPE, text=True, env=env, **_SIGINT_CHILD)
     assert proc.stdout.readline().strip() == "started"
     time.sleep(3.0)  # into loading / tracing
     proc.send_signal(signal.SIGINT)
@@ -217,6 +224,27 @@ def test_sigint_to_a_real_process_exits_130_without_traceback(tmp_path):
     assert "Traceback" not in err and err.strip().splitlines()[-1].startswith("tracer: interrupted")
     leftovers = [p for p in (tmp_path / "o").rglob("*") if p.suffix == ".tmp"] if (tmp_path / "o").exists() else []
     assert leftovers == []
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
+def test_sigint_to_a_sweep_with_worker_processes_ends_them_at_once(tmp_path):
+    # Ctrl-C in a terminal reaches the whole process group: the workers ignore it, the parent
+    # prints one line, ends the workers and exits 130 without waiting for their tasks.
+    argv = [sys.executable, "-m", "tracer.cli", "sweep", str(ROOT / "scenes" / "microwave_prism_coupler.toml"),
+            "--vary", "solids.output.mate.gap", "5mm", "30mm", "400", "--rays", "3000",
+            "--workers", "2", "--quiet", "--out", str(tmp_path / "o")]
+    proc = subprocess.Popen(argv, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            env=dict(os.environ, PYTHONPATH=str(ROOT)), **_SIGINT_CHILD)
+    time.sleep(15.0)  # workers started and busy
+    assert proc.poll() is None, proc.communicate()
+    os.killpg(proc.pid, signal.SIGINT)
+    start = time.monotonic()
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err and err.strip() == ("tracer: interrupted; files already written "
+                                                      "are complete, the rest were not written")
+    assert time.monotonic() - start < 30
+    assert not (tmp_path / "o" / "sweep.csv").exists()
 
 
 def test_unwritable_out_exits_2_before_tracing(tmp_path, monkeypatch, capsys):
