@@ -264,6 +264,8 @@ def test_unwritable_out_exits_2_before_tracing(tmp_path, monkeypatch, capsys):
         code, _, err = run_cli(capsys, *argv, "--out", tmp_path / "o")
         assert code == 2, argv
         assert "--out" in err and "not writable" in err and "Permission denied" in err
+    code, _, err = run_cli(capsys, "run", PLATE, "--json", tmp_path / "s.json")
+    assert code == 2 and "--json" in err and "not writable" in err
 
 
 # ------------------------------------------------------------------ kernel cache

@@ -122,7 +122,7 @@ def load_scene(path: str):
 
 def output_file(path: str | None, option: str, *, example: str = "results.json") -> str | None:
     """Check an output file option (``--json PATH``, ``--csv PATH``) before any work:
-    not a folder, and its folder exists or can be made (it is made). ``example`` is the
+    not a folder, and its folder exists or can be made (it is made) and is writable. ``example`` is the
     file name suggested when a folder is given."""
     if path is None:
         return None
@@ -138,6 +138,15 @@ def output_file(path: str | None, option: str, *, example: str = "results.json")
                               f"{exc.strerror or exc}") from None
     elif not parent.is_dir():
         raise TracerError(f"{option} {path}: {parent} is not a folder")
+    import tempfile
+
+    try:  # writable: proved by a temporary file, before any work
+        fd, tmp = tempfile.mkstemp(prefix=".tracer-write-test.", dir=parent)
+        os.close(fd)
+        os.unlink(tmp)
+    except OSError as exc:
+        raise TracerError(f"{option} {path}: the folder {parent} is not writable: "
+                          f"{exc.strerror or exc}") from None
     return path
 
 
