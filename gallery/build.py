@@ -200,7 +200,9 @@ def write_readme(entries) -> Path:
         if e["table"]:
             parts.append(e["table"])
     path = OUT / "README.md"
-    path.write_text("\n".join(parts), encoding="utf-8")
+    from tracer.outputs import atomic_write_text
+
+    atomic_write_text(path, "\n".join(parts))
     return path
 
 

@@ -105,3 +105,66 @@ def test_reference_page_mentions_every_key_and_kind():
              "waves", "degree", "ellipticity", "azimuth", "handedness", "stokes"]
     missing = [w for w in words if f"`{w}`" not in text and f'"{w}"' not in text and f"[{w}" not in text]
     assert not missing, missing
+
+
+def test_check_lists_each_face_normal_and_centroid(capsys):
+    # Right-angle prism with legs of 20 mm along x and y from the origin (the TIR pair's lower
+    # prism): the hypotenuse's outward normal is (1, 1, 0)/sqrt(2) and its centroid the
+    # midpoint (10, 10, 0) mm; leg_a lies on y = 0 (normal -y, centroid (10, 0, 0) mm)
+    # (elementary geometry, common practice, no source).
+    path = Path(SCENES[0]).parent / "tir_prism_pair.toml"
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "    hypotenuse: uncoated; normal [0.7071, 0.7071, 0], centroid [10, 10, 0] mm" in out
+    assert "    leg_a: stack (ar_550); normal [0, -1, 0], centroid [10, 0, 0] mm" in out
+    assert main(["check", "--json", str(path)]) == 0
+    face = json.loads(capsys.readouterr().out)["scenes"][0]["solids"]["lower"]["faces"]["hypotenuse"]
+    assert face["normal"] == pytest.approx([2 ** -0.5, 2 ** -0.5, 0.0])
+    assert face["centroid_m"] == pytest.approx([0.01, 0.01, 0.0], abs=1e-12)
+
+
+def _vacuum_scene(tmp_path, basis_line):
+    text = (Path(SCENES[0]).parent / "plate_ghost.toml").read_text(encoding="utf-8")
+    import tomllib
+
+    doc = tomllib.loads(text)
+    solid = next(iter(doc["solids"]))
+    body = text.replace('ambient = "air"', 'ambient = "vacuum"') if 'ambient = "air"' in text else \
+        'ambient = "vacuum"\n' + text
+    body = body.replace(f"[solids.{solid}]", f"[materials.inline_glass]\nmodel = \"constant\"\nn = 1.5\n"
+                        f"{basis_line}\n[solids.{solid}]", 1)
+    lines = body.splitlines()
+    start = lines.index(f"[solids.{solid}]")
+    for i in range(start + 1, len(lines)):
+        if lines[i].startswith("["):
+            break
+        if lines[i].startswith("material"):
+            lines[i] = 'material = "inline_glass"'
+    p = tmp_path / "vac.toml"
+    p.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return p, solid
+
+
+def test_check_warns_when_an_air_referenced_inline_material_meets_a_vacuum_ambient(tmp_path, capsys):
+    # n = 1.5 relative to air is 1.5 x n_air (standard air, Ciddor 1996: n - 1 = 2.78e-4 at
+    # 550 nm, from memory) in vacuum; check says so, names the key and the fix.
+    p, solid = _vacuum_scene(tmp_path, "")
+    assert main(["check", str(p)]) == 0
+    out = capsys.readouterr().out
+    assert "warnings (1):" in out
+    line = next(x for x in out.splitlines() if "warning:" in x)
+    assert "materials.inline_glass" in line and f"solids.{solid}" in line and 'index_basis = "vacuum"' in line
+    absolute = float(line.split(" relative to air is ")[1].split()[0])
+    assert absolute == pytest.approx(1.5 * 1.000278, abs=2e-6)
+    assert main(["check", "--quiet", str(p)]) == 0
+    assert "materials.inline_glass" in capsys.readouterr().err
+    # stated explicitly: taken as meant, no warning (either basis)
+    for basis in ('index_basis = "vacuum"', 'index_basis = "air"'):
+        p, _ = _vacuum_scene(tmp_path, basis)
+        assert main(["check", str(p)]) == 0
+        assert "warning" not in capsys.readouterr().out
+    # the same inline material in air: nothing to warn about
+    text = p.read_text().replace('ambient = "vacuum"', 'ambient = "air"').replace('index_basis = "air"\n', "")
+    p.write_text(text)
+    assert main(["check", str(p)]) == 0
+    assert "warning" not in capsys.readouterr().out

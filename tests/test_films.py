@@ -433,3 +433,118 @@ def test_lossy_incident_medium_partly_incoherent_matches_tmm_inc_tmm():
                               th0, WL)
             assert R == pytest.approx(ref["R"], abs=1e-12)
             assert T == pytest.approx(ref["T"], abs=1e-12)
+
+
+# ------------------------------------------- coherence rule: passive stacks stay physical
+
+
+def test_thin_metal_in_incoherent_stack_stays_coherent():
+    # The case of the issue: 10 nm of an absorbing metal (0.05 + 3.9j) summed in power gives
+    # Rs = 1.13, As = -0.65 (tmm.inc_tmm with the layer flagged 'i' gives the same
+    # unphysical numbers). A layer thinner than the coherence length stays coherent, so the
+    # result is tmm.inc_tmm with the layer 'c' (S. J. Byrnes, arXiv:1603.02720, 2016).
+    n_list, d_nm = [1.0, 0.05 + 3.9j, 1.5], [np.inf, 10.0, np.inf]
+    s = films.stack(n_in=1.0, layers=[(0.05 + 3.9j, 10e-9)], n_out=1.5, wavelength=550e-9,
+                    angle=0.5, coherent=False)
+    for pol, R, T, A in (("s", s.Rs, s.Ts, s.As), ("p", s.Rp, s.Tp, s.Ap)):
+        bad = tmm.inc_tmm(pol, n_list, d_nm, ["i", "i", "i"], 0.5, 550.0)
+        assert bad["R"] > 1 or pol == "p"  # the power sum itself is unphysical for s
+        ref = tmm.inc_tmm(pol, n_list, d_nm, ["i", "c", "i"], 0.5, 550.0)
+        assert R == pytest.approx(ref["R"], abs=1e-12)
+        assert T == pytest.approx(ref["T"], abs=1e-12)
+        assert 0 <= A <= 1
+    assert s.Rs == pytest.approx(0.45444582, abs=1e-6)  # tmm coherent value (the line above)
+
+
+def test_thick_absorbing_layers_give_zero_transmission_without_warnings():
+    # Beer-Lambert (common practice, no source): T ~ exp(-4 pi kappa d / lambda) -> 0; no NaN,
+    # no overflow or invalid-value warnings whatever the thickness, coherent or not.
+    import warnings
+
+    th = np.radians([0.0, 30.0, 60.0, 89.0])
+    for n in (0.05 + 3.9j, 1.5 + 0.01j, 3.0 + 40.0j):
+        for d in (1e-6, 1e-4, 1e-2, 1.0, 1e3):
+            for coherent in (True, False, [False, True]):
+                with warnings.catch_warnings():
+                    warnings.simplefilter("error")
+                    s = films.stack(n_in=1.0, layers=[(n, d), (1.38, 100e-9)], n_out=1.5,
+                                    wavelength=WL, angle=th, coherent=coherent)
+                for R, T in ((s.Rs, s.Ts), (s.Rp, s.Tp)):
+                    assert np.all(np.isfinite(R)) and np.all(np.isfinite(T))
+                    if 4 * np.pi * n.imag * d / WL > 800:
+                        np.testing.assert_array_equal(T, 0.0)
+                    assert np.all((R >= 0) & (R <= 1) & (T >= 0) & (R + T <= 1 + 1e-12))
+
+
+def _tmm_flags(n_in, ns, ds, th, wl, coherent, coherence_length):
+    """Our documented coherence rule: ``q = n cos θ = sqrt(n^2 - (n_in sin θ)^2)`` (principal
+    root: the forward wave for a real n_in and κ >= 0)."""
+    if coherent is True:
+        return [True] * len(ns)
+    L = wl if coherence_length is None else coherence_length
+    out = []
+    for n, d in zip(ns, ds):
+        q = np.sqrt(complex(n) ** 2 - (n_in * np.sin(th)) ** 2)
+        limit = max(L, wl) if complex(n).imag > 0 else L
+        out.append(not (2 * q.real * d > limit))
+    return out
+
+
+passive_layer = st.tuples(
+    st.floats(1.0, 3.0),
+    st.one_of(st.just(0.0), st.floats(0.0, 5.0), st.floats(1e-7, 1e-2).map(float)),
+    # no subnormal thicknesses: tmm itself loses precision there (R < 0 for 1e-308 m)
+    st.one_of(st.just(0.0), st.floats(1e-11, 100e-6), st.floats(1e-11, 200e-9)),
+)
+
+
+@settings(max_examples=300, deadline=None)
+@given(n_in=st.floats(1.0, 2.5), n_out=st.floats(1.0, 2.5),
+       layers=st.lists(passive_layer, min_size=0, max_size=5),
+       th=st.floats(0.0, np.radians(89.0)), wl=st.floats(400e-9, 1.2e-6),
+       coherent=st.one_of(st.just(True), st.just(False), st.lists(st.booleans(), min_size=5, max_size=5)),
+       coherence_length=st.one_of(st.none(), st.just(0.0), st.floats(0.0, 50e-6)))
+def test_property_passive_stacks_are_physical_and_match_tmm(n_in, n_out, layers, th, wl, coherent,
+                                                            coherence_length):
+    # Any passive stack (n >= 1, kappa >= 0, 0..100 um, 0..89 deg, s and p, coherent and
+    # incoherent): 0 <= R, T, A <= 1 and R + T + A = 1 (energy conservation), and R, T equal
+    # tmm.inc_tmm (Byrnes, arXiv:1603.02720, 2016) with each layer 'c' or 'i' by the rule.
+    import warnings
+
+    ns = [complex(n, k) for n, k, _ in layers]
+    ds = [d for _, _, d in layers]
+    flags = coherent if isinstance(coherent, bool) else coherent[: len(ns)]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        s = films.stack(n_in=n_in, layers=list(zip(ns, ds)), n_out=n_out, wavelength=wl, angle=th,
+                        coherent=flags, coherence_length=coherence_length)
+    if isinstance(flags, bool):
+        flags = [flags] * len(ns)
+    eff = [bool(f) or g for f, g in zip(flags, _tmm_flags(n_in, ns, ds, th, wl, False, coherence_length))]
+    c_list = ["i"] + ["c" if f else "i" for f in eff] + ["i"]
+    for pol, R, T, A in (("s", s.Rs, s.Ts, s.As), ("p", s.Rp, s.Tp, s.Ap)):
+        for v in (R, T, A):
+            assert -1e-9 <= v <= 1 + 1e-9
+        assert R + T + A == pytest.approx(1.0, abs=1e-12)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # tmm's own note on nearly opaque layers
+            ref = tmm.inc_tmm(pol, [n_in, *ns, n_out], [np.inf, *[d * 1e9 for d in ds], np.inf],
+                              c_list, th, wl * 1e9)
+        if not (np.isfinite(ref["R"]) and np.isfinite(ref["T"])):
+            continue  # tmm overflows in thick evanescent layers (its limit, not ours: bounds above)
+        assert R == pytest.approx(ref["R"], abs=1e-7)
+        assert T == pytest.approx(ref["T"], abs=1e-7)
+
+
+def test_coherence_length_decides_which_layers_are_summed_in_power():
+    # A 20 um lossless slab: coherent (fringes) for a long coherence length, the power sum
+    # T1 T2 / (1 - R1 R2) for a short one (tmm.inc_tmm 'c' / 'i', Byrnes 2016).
+    kw = dict(n_in=1.0, layers=[(1.5, 20e-6)], n_out=1.0, wavelength=WL, angle=0.2, coherent=False)
+    long = films.stack(coherence_length=1e-3, **kw)
+    short = films.stack(coherence_length=5e-6, **kw)
+    ref_c = tmm.inc_tmm("s", [1.0, 1.5, 1.0], [np.inf, 20e3, np.inf], ["i", "c", "i"], 0.2, 550.0)
+    ref_i = tmm.inc_tmm("s", [1.0, 1.5, 1.0], [np.inf, 20e3, np.inf], ["i", "i", "i"], 0.2, 550.0)
+    assert long.Ts == pytest.approx(ref_c["T"], abs=1e-9)
+    assert short.Ts == pytest.approx(ref_i["T"], abs=1e-12)
+    with pytest.raises(TracerError, match="coherence_length"):
+        films.stack(coherence_length=-1.0, **kw)

@@ -4,7 +4,9 @@ Each subcommand lives in its own module under :mod:`tracer.commands` and provide
 ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args) -> int``. This module
 only parses, dispatches and turns user errors into exit code 2.
 
-Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error.
+Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error,
+130 interrupted (Ctrl-C: one line on stderr, no traceback; files are written
+atomically, so none is left half-written).
 """
 
 from __future__ import annotations
@@ -32,6 +34,8 @@ COMMAND_MODULES = (
 )
 
 EXIT_OK, EXIT_REQUIREMENT_FAILED, EXIT_INPUT_ERROR = 0, 1, 2
+#: Interrupted by the user (SIGINT): 128 + 2, the shell convention.
+EXIT_INTERRUPTED = 130
 
 
 def _available_commands():
@@ -55,7 +59,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(
         prog="tracer",
         description="Polarisation-aware ray tracing of prism assemblies: where every milliwatt goes.",
-        epilog="Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error.",
+        epilog="Exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error, 130 interrupted.",
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"tracer {__version__}")
@@ -74,6 +78,14 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
+    try:
+        return _main(argv)
+    except KeyboardInterrupt:  # Ctrl-C anywhere: parsing, loading, tracing, writing
+        _interrupted()
+        return EXIT_INTERRUPTED
+
+
+def _main(argv):
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "_run", None):
@@ -86,6 +98,17 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_INPUT_ERROR
     except BrokenPipeError:  # e.g. piped into head
         return EXIT_OK
+
+
+def _interrupted() -> None:
+    """One line on stderr after Ctrl-C (ending a progress bar's line first)."""
+    try:
+        lead = "\n" if sys.stderr.isatty() else ""  # end a progress bar's line
+        sys.stderr.write(f"{lead}tracer: interrupted; files already written are complete, "
+                         "the rest were not written\n")
+        sys.stderr.flush()
+    except (OSError, ValueError):
+        pass
 
 
 if __name__ == "__main__":  # pragma: no cover

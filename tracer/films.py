@@ -49,10 +49,30 @@ pass transmission ``P = |exp(iδ)|^2``, from the back of the stack towards the f
     R_tot <- R + T T' P^2 R_tot / (1 - R' P^2 R_tot)
 
 (for one layer with bare faces ``T = T1 T2 / (1 - R1 R2)``; the same sum as the power
-transfer matrices of section 6 of [3]). A layer forced incoherent beyond its critical
-angle passes nothing (no tunnelling): keep such layers coherent, as
-:func:`tracer.coatings.gap_response` does per ray in both its ``auto`` and
-``incoherent`` modes (an evanescent field has no phase to lose).
+transfer matrices of section 6 of [3]).
+
+Coherence rule
+--------------
+The power sum is the average of the coherent result over the layer's round-trip phase.
+That average describes real light only when the phase really spreads over many cycles
+across the band while the interface coefficients and the single-pass attenuation stay
+fixed: the layer must be optically thick compared with the coherence length. For a
+lossless layer the sum is a convex average and stays physical at any thickness; for a
+thin absorbing layer it is not a physical state at all (a 10 nm metal film summed in
+power gives R > 1 and A < 0, the same numbers as ``tmm.inc_tmm`` with that layer flagged
+``'i'``: the interface coefficients seen from inside an absorbing layer only make sense
+together with its phase). So a layer flagged incoherent is solved incoherently only
+where its round-trip optical path ``2 Re(n cos θ) d`` exceeds the coherence length
+``coherence_length`` (default ``λ``, the shortest coherence length light can have,
+``Δλ = λ``), and, for an absorbing layer, also exceeds ``λ`` whatever the coherence length
+given; elsewhere it stays coherent inside the incoherent stack, as in the usual
+incoherent treatment (section 6 of [3]: thin layers coherent, thick substrates
+incoherent). This also keeps an evanescent layer (``Re(n cos θ) = 0``: no phase to lose,
+frustrated TIR) and a zero-thickness layer coherent. A thick absorbing layer solved incoherently has
+``P -> 0`` (no overflow: ``P`` is a decaying exponential) and a thick absorbing layer kept
+coherent the bounded matrices above, so ``T -> 0`` without NaN either way. With this
+rule ``0 <= R, T, A <= 1`` for any passive stack (``tests/test_films.py``, property
+tests).
 
 Amplitudes in incoherent mode are not defined physically. We return
 ``r = sqrt(R) · exp(i arg r_1)`` with ``r_1`` the coherent reflection of the first sub-stack
@@ -365,7 +385,44 @@ def _parse_flags(coherent, count):
     return out
 
 
-def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, coherent=True) -> Coefficients:
+def _effective_flags(flags, ldata, wl, coherence_length):
+    """Per layer: True where it is solved coherently (module docstring, "Coherence rule").
+
+    A layer flagged incoherent is solved incoherently only where its round-trip optical
+    path ``2 Re(n cos θ) d`` exceeds the coherence length ``L`` (default ``λ``), and for an
+    absorbing layer also ``λ``.
+    """
+    if all(f is True for f in flags):
+        return flags
+    if coherence_length is None:
+        L = wl
+    else:
+        L = np.asarray(coherence_length, dtype=float)
+        if np.any(np.isnan(L)) or np.any(L < 0):
+            raise CoefficientError(
+                "coherence_length must be >= 0 [m] (inf for monochromatic light), "
+                f"got {coherence_length!r}"
+            )
+    out = []
+    for f, (_, n2, q, d) in zip(flags, ldata):
+        if f is True:
+            out.append(True)
+            continue
+        limit = np.where(n2.imag > 0, np.maximum(L, wl), L)  # absorbing: at least λ
+        with np.errstate(invalid="ignore"):
+            thick = (2.0 * q.real) * d > limit
+        eff = np.logical_or(f, ~thick)
+        if eff.all():
+            out.append(True)
+        elif not eff.any():
+            out.append(False)
+        else:
+            out.append(eff)
+    return out
+
+
+def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, coherent=True,
+          coherence_length=None) -> Coefficients:
     """Amplitude and power coefficients of a layered stack for s and p.
 
     Parameters
@@ -386,10 +443,18 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
     cos_angle : array_like float [1], optional
         Its cosine, instead of ``angle``.
     coherent : bool or sequence of bool (or bool arrays over the rays), default True
-        ``True``: every layer coherent. ``False``: every layer incoherent (phase
-        discarded, multiple reflections summed in power). A sequence gives one flag per
-        layer; a flag may itself be an array broadcast with the rays (each ray is solved
-        with its own pattern).
+        ``True``: every layer coherent. ``False``: every layer may be incoherent (phase
+        discarded, multiple reflections summed in power) where it is thicker than the
+        coherence length (rule below). A sequence gives one flag per layer; a flag may
+        itself be an array broadcast with the rays (each ray is solved with its own
+        pattern).
+    coherence_length : array_like float [m], optional
+        Coherence length of the light (``λ^2/Δλ``, inf for monochromatic light),
+        broadcast with the rays. A layer flagged incoherent is solved incoherently only
+        where its round-trip optical path ``2 Re(n cos θ) d`` exceeds the coherence
+        length, and for an absorbing layer also ``λ``; elsewhere it stays coherent
+        (module docstring, "Coherence rule"). Default ``λ``, the shortest coherence
+        length light can have; ``0`` sums every propagating lossless layer in power.
 
     Returns
     -------
@@ -402,7 +467,7 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
     ------
     tracer.fresnel.CoefficientError
         Malformed layers, negative or infinite thickness, bad angle, non-positive
-        wavelength, mismatched coherence flags.
+        wavelength, mismatched coherence flags, negative coherence length.
     """
     c_in = cosine_of(angle=angle, cos_angle=cos_angle)
     wl = np.asarray(wavelength, dtype=float)
@@ -447,6 +512,7 @@ def stack(*, n_in, layers, n_out, wavelength, angle=None, cos_angle=None, cohere
         n2 = n * n
         ldata.append((n, n2, _forward_root((n2 - n_in2) + q_in2), d))
 
+    flags = _effective_flags(flags, ldata, wl, coherence_length)
     if all(f is True for f in flags):
         res = _coherent_powers(n_in, q_in, n_out, q_out, ldata, k0)
     elif all(isinstance(f, bool) for f in flags):

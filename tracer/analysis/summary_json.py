@@ -179,12 +179,8 @@ def _verdict_dict(v, scene) -> dict:
 
 
 def write_json(data: dict, path: str | os.PathLike) -> None:
-    """Write ``data`` as indented UTF-8 JSON (strict: no NaN or Infinity)."""
-    from ..errors import TracerError
+    """Write ``data`` as indented UTF-8 JSON (strict: no NaN or Infinity), atomically."""
+    from ..outputs import atomic_write_text
 
-    try:
-        with open(path, "w", encoding="utf-8") as fh:
-            json.dump(data, fh, indent=2, ensure_ascii=False, allow_nan=False)
-            fh.write("\n")
-    except OSError as exc:
-        raise TracerError(f"cannot write {os.fspath(path)}: {exc.strerror or exc}") from None
+    text = json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    atomic_write_text(path, text)  # temporary file, then rename: never half-written

@@ -241,5 +241,7 @@ def gap_response(*, n_a, coating_a, medium_n, thickness, coating_b, n_b, wavelen
         elif not flag.any():
             flag = False
     flags = [True] * len(la) + [flag] + [True] * len(lb)
+    # the flags carry this function's rule; coherence_length=0 lets films.stack add only its
+    # own guard (an absorbing gap medium thinner than a wavelength stays coherent)
     return films.stack(n_in=na, layers=layers, n_out=nb, wavelength=wavelength, cos_angle=cos_angle,
-                       coherent=flags)
+                       coherent=flags, coherence_length=0.0)

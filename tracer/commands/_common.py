@@ -15,7 +15,7 @@ from ..errors import TracerError
 
 __all__ = ["add_scene", "add_trace_options", "add_output_options", "load_scene", "trace_scene",
            "out_dir", "say", "plot_module", "write_text", "whole_number", "count_option",
-           "output_file", "scene_file_problem", "CAUTION_LINE"]
+           "output_file", "scene_file_problem", "manifest", "CAUTION_LINE"]
 
 #: The one-line safety caution at the end of the text output (the full text is in the
 #: README and in every HTML report).
@@ -125,7 +125,7 @@ def load_scene(path: str):
 
 def output_file(path: str | None, option: str, *, example: str = "results.json") -> str | None:
     """Check an output file option (``--json PATH``, ``--csv PATH``) before any work:
-    not a folder, and its folder exists or can be made (it is made). ``example`` is the
+    not a folder, and its folder exists or can be made (it is made) and is writable. ``example`` is the
     file name suggested when a folder is given."""
     if path is None:
         return None
@@ -141,6 +141,15 @@ def output_file(path: str | None, option: str, *, example: str = "results.json")
                               f"{exc.strerror or exc}") from None
     elif not parent.is_dir():
         raise TracerError(f"{option} {path}: {parent} is not a folder")
+    import tempfile
+
+    try:  # writable: proved by a temporary file, before any work
+        fd, tmp = tempfile.mkstemp(prefix=".tracer-write-test.", dir=parent)
+        os.close(fd)
+        os.unlink(tmp)
+    except OSError as exc:
+        raise TracerError(f"{option} {path}: the folder {parent} is not writable: "
+                          f"{exc.strerror or exc}") from None
     return path
 
 
@@ -166,29 +175,46 @@ def trace_scene(scene, args, **extra):
 
 
 def out_dir(path: str | None, default: str | None = None) -> Path | None:
-    """Create and return the output folder (``None`` when neither is given)."""
+    """Create the output folder and check that it is writable, before any tracing
+    (``None`` when neither is given); problems are a TracerError (exit 2)."""
+    from ..outputs import check_writable_folder
+
     target = path or default
     if target is None:
         return None
-    p = Path(target)
-    if p.exists() and not p.is_dir():
-        raise TracerError(f"--out {target}: is a file, not a folder; give a folder name")
-    try:
-        p.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise TracerError(f"--out {target}: cannot create the folder: {exc.strerror or exc}") from None
-    if not p.is_dir():
-        raise TracerError(f"--out {target}: not a folder")
-    return p
+    return check_writable_folder(target, "--out")
 
 
 def write_text(path: Path, text: str) -> Path:
-    """Write UTF-8 text; an unwritable path is a TracerError."""
-    try:
-        Path(path).write_text(text, encoding="utf-8")
-    except OSError as exc:
-        raise TracerError(f"cannot write {path}: {exc.strerror or exc}") from None
-    return Path(path)
+    """Write UTF-8 text atomically (:func:`tracer.outputs.atomic_write_text`); an
+    unwritable path is a TracerError."""
+    from ..outputs import atomic_write_text
+
+    return atomic_write_text(path, text)
+
+
+class _NoManifest:
+    """Stand-in for a run without an output folder."""
+
+    def add(self, *paths):
+        return [Path(p) for p in paths if p is not None]
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+
+def manifest(out: Path | None, command: str, scene_path=None):
+    """The :class:`tracer.outputs.RunManifest` of this run in ``out`` (a context manager:
+    on leaving it removes the earlier run's stale files and writes ``manifest.json``), or
+    a stand-in that records nothing when there is no output folder."""
+    if out is None:
+        return _NoManifest()
+    from ..outputs import RunManifest
+
+    return RunManifest(out, command=command, scene=scene_path)
 
 
 def say(args, *lines) -> None:

@@ -4,7 +4,9 @@ Each scene is loaded with the strict loader; every problem of every file is prin
 (file, TOML key path, what was expected), and the exit code is 2 when any file has a
 problem. For valid scenes it prints the solids with the treatment of every face, the
 gaps (thickness in µm, medium, and how each was found: declared, mated or automatic),
-the sources, detectors, requirements and notes. ``--json`` prints the same as JSON.
+the sources, detectors, requirements and notes, each face with its outward normal and
+area centroid, and warnings (an inline material relative to air in a vacuum ambient).
+``--json`` prints the same as JSON.
 """
 
 from __future__ import annotations
@@ -64,6 +66,10 @@ def run(args) -> int:
                 if i:
                     print()
                 print(format_summary(s))
+        else:  # warnings are not problems, but --quiet still shows them
+            for s in summaries:
+                for w in s.get("warnings", ()):
+                    print(f"warning: {w}", file=sys.stderr)
         if problems:
             count = len(problems)
             print(f"{count} problem{'s' if count != 1 else ''}:", file=sys.stderr)

@@ -6,7 +6,9 @@ power), ``rays3d`` (3D view), ``budget`` (where the power goes), ``irradiance`` 
 ``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction), and
 ``glb`` (the solids, detectors and rays as a binary glTF file for 3D viewers). Choose
 with ``--kind`` (repeatable; default ``rays``, ``all`` for every figure kind and the GLB
-file) and the figure formats with ``--format`` (png, svg).
+file) and the figure formats with ``--format`` (png, svg). ``manifest.json`` in the folder
+lists the files of the last draw run (earlier ones it listed and not drawn again are
+removed; other files are left alone).
 """
 
 from __future__ import annotations
@@ -60,19 +62,20 @@ def run(args) -> int:
     analysis = analyse(result) if "budget" in kinds else None
     skipped: list = []
     stem = c.scene_stem(scene)
-    files = save_figures(result, analysis, out, kinds=kinds, formats=formats, skipped=skipped,
-                         prefix=f"{stem}-")
-    if "far_field" in (args.kind or []) and not getattr(result.compiled, "far_fields", None):
-        skipped.append(("far_field", "the scene has no far-field detector"))
-    if glb:
-        try:
-            from ..plot.export3d import export_glb
-        except ImportError as exc:
-            skipped.append(("glb", f"3D export not available ({exc})"))
-        else:
-            from ..report.figures import drawing_result
+    with c.manifest(out, NAME, args.scene) as m:  # stale files of an earlier run removed
+        files = m.add(save_figures(result, analysis, out, kinds=kinds, formats=formats,
+                                   skipped=skipped, prefix=f"{stem}-"))
+        if "far_field" in (args.kind or []) and not getattr(result.compiled, "far_fields", None):
+            skipped.append(("far_field", "the scene has no far-field detector"))
+        if glb:
+            try:
+                from ..plot.export3d import export_glb
+            except ImportError as exc:
+                skipped.append(("glb", f"3D export not available ({exc})"))
+            else:
+                from ..report.figures import drawing_result
 
-            files.append(export_glb(scene, drawing_result(result), out / f"{stem}.glb"))
+                files += m.add(export_glb(scene, drawing_result(result), out / f"{stem}.glb"))
     if not args.quiet:
         for f in files:
             print(f"wrote {f}")

@@ -75,8 +75,9 @@ def run(args) -> int:
     if args.csv:
         written.append(str(c.write_text(args.csv, next(iter(tables.values())).to_csv())))
     if out is not None:
-        for n, t in tables.items():
-            written.append(str(c.write_text(out / f"ghosts-{n}.csv", t.to_csv())))
+        with c.manifest(out, NAME, args.scene) as m:  # stale files of an earlier run removed
+            for n, t in tables.items():
+                written.append(str(m.add(c.write_text(out / f"ghosts-{n}.csv", t.to_csv()))[0]))
     if args.json:
         write_json(dict(caution=CAUTION, tool=dict(name="tracer", version=__version__),
                         scene=dict(title=scene.title, path=scene.path),

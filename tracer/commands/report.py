@@ -53,17 +53,19 @@ def run(args) -> int:
     settings = c.trace_settings(args)
     settings["progress"] = None if not args.quiet else False
     failed = False
-    for path, scene in zip(args.scenes, scenes):
-        rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **settings)
-        target = rep.write(out / f"{c.scene_stem(scene)}.html")
-        if args.json:
-            write_json(run_summary(rep.analysis), args.json)
-        if not rep.passed:
-            failed = True
-            print(f"{path}: requirement "
-                  + ("failed" if rep.analysis.verdict == "fail" else "inconclusive"))
-            print(format_verdicts(rep.analysis.verdicts))
-        if not args.quiet:
-            extra = f" ({len(rep.figures)} figures)" if not args.no_figures else ""
-            print(f"wrote {target}{extra}")
+    with c.manifest(out, NAME, args.scenes) as m:  # stale files of an earlier run removed
+        for path, scene in zip(args.scenes, scenes):
+            rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **settings)
+            target = m.add(rep.write(out / f"{c.scene_stem(scene)}.html"))[0]
+            if args.json:
+                write_json(run_summary(rep.analysis), args.json)
+                m.add(args.json)
+            if not rep.passed:
+                failed = True
+                print(f"{path}: requirement "
+                      + ("failed" if rep.analysis.verdict == "fail" else "inconclusive"))
+                print(format_verdicts(rep.analysis.verdicts))
+            if not args.quiet:
+                extra = f" ({len(rep.figures)} figures)" if not args.no_figures else ""
+                print(f"wrote {target}{extra}")
     return 1 if failed else 0

@@ -7,8 +7,10 @@ marked) and the verdict of every requirement of the scene.
 
 With ``--out DIR`` it also writes ``summary.json``, ``budget.csv``, one
 ``ghosts-DETECTOR.csv`` per detector and, unless ``--no-figures``, the power-budget
-figure and a ray diagram as PNG. ``--json PATH`` writes the JSON summary (layout in
-docs/json-summary.md) anywhere.
+figure and a ray diagram as PNG, and ``manifest.json`` (what this run wrote, the scene
+and its hash; files of an earlier run listed there and not written again are removed).
+``--json PATH`` writes the JSON summary (layout in docs/json-summary.md) anywhere. Every
+file is written to a temporary name and renamed when complete.
 
 A requirement passes only when it would still pass had all the discarded and cut power
 gone the worst way for it; otherwise it is inconclusive (the bound is shown, with what to
@@ -98,20 +100,26 @@ def run(args) -> int:
         write_json(summary, args.json)
         written.append(args.json)
     if out is not None:
-        if not (args.json and Path(args.json).resolve() == (out / "summary.json").resolve()):
-            write_json(summary, out / "summary.json")
-            written.append(str(out / "summary.json"))
-        written.append(str(c.write_text(out / "budget.csv", analysis.budget.to_csv())))
-        for name, table in analysis.ghosts.items():
-            written.append(str(c.write_text(out / f"ghosts-{name}.csv", table.to_csv())))
-        if want_figures:
-            from ..report.figures import save_figures
+        with c.manifest(out, NAME, args.scene) as m:  # stale files of an earlier run removed
+            if args.json:
+                m.add(args.json)
+            if not (args.json and Path(args.json).resolve() == (out / "summary.json").resolve()):
+                write_json(summary, out / "summary.json")
+                written.append(str(out / "summary.json"))
+                m.add(out / "summary.json")
+            m.add(c.write_text(out / "budget.csv", analysis.budget.to_csv()))
+            written.append(str(out / "budget.csv"))
+            for name, table in analysis.ghosts.items():
+                written.append(str(m.add(c.write_text(out / f"ghosts-{name}.csv", table.to_csv()))[0]))
+            if want_figures:
+                from ..report.figures import save_figures
 
-            skipped: list = []
-            written += [str(p) for p in save_figures(result, analysis, out,
-                                                     kinds=("budget", "rays"), skipped=skipped)]
-            for kind, why in skipped:
-                c.say(args, f"figure {kind} not drawn: {why}")
+                skipped: list = []
+                figs = save_figures(result, analysis, out, kinds=("budget", "rays"), skipped=skipped)
+                m.add(figs)
+                written += [str(p) for p in figs]
+                for kind, why in skipped:
+                    c.say(args, f"figure {kind} not drawn: {why}")
     if not args.quiet:
         if written:
             print()

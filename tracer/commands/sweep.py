@@ -218,6 +218,8 @@ def run(args) -> int:
     if args.json:
         result.to_json(args.json)
     if out is not None:
-        files = result.write(out, figures=not args.no_figures)
+        with c.manifest(out, NAME, args.scene) as m:  # stale files of an earlier run removed
+            m.add(args.json)
+            files = m.add(result.write(out, figures=not args.no_figures))
         c.say(args, "wrote " + ", ".join(str(f) for f in files))
     return 0

@@ -116,8 +116,10 @@ def run(args) -> int:
         if args.json:
             c.write_text(args.json, text)
         if out is not None:
-            files = result.write(out, figures=not args.no_figures)
-            c.write_text(out / "tolerance.json", text)
+            with c.manifest(out, NAME, args.scene) as m:  # stale files of an earlier run removed
+                m.add(args.json)
+                files = m.add(result.write(out, figures=not args.no_figures))
+                m.add(c.write_text(out / "tolerance.json", text))
             c.say(args, "wrote " + ", ".join(str(f) for f in files))
     if args.min_yield is not None and result.requirements:
         if result.yield_fraction() < args.min_yield:

@@ -118,7 +118,9 @@ def save(fig, path, *, formats=("svg", "png"), dpi: int = PNG_DPI, close: bool =
             kw["pil_kwargs"] = {"optimize": True}
         if fmt == "svg":
             kw["metadata"] = {"Date": None}  # reproducible files
-        fig.savefig(target, **kw)
+        from ..outputs import atomic_savefig
+
+        atomic_savefig(fig, target, **kw)  # temporary file, then rename
         out.append(target)
     if close:
         pyplot().close(fig)

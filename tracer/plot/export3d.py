@@ -136,9 +136,8 @@ def export_glb(scene, result=None, path="scene.glb", *, min_power: float = 1e-6,
     Path
         The file written.
     """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
+    from ..outputs import atomic_write_bytes
+
     tm = scene_to_trimesh(scene, result, min_power=min_power, tubes=tubes)
     data = tm.export(file_type="glb")
-    path.write_bytes(data)
-    return path
+    return atomic_write_bytes(Path(path), data)  # temporary file, then rename

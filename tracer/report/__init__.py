@@ -34,16 +34,10 @@ class Report:
         return self.analysis.passed
 
     def write(self, path: str | os.PathLike) -> Path:
-        """Write the page (UTF-8); an unwritable path is a TracerError."""
-        from ..errors import TracerError
+        """Write the page (UTF-8, atomically); an unwritable path is a TracerError."""
+        from ..outputs import atomic_write_text
 
-        p = Path(path)
-        try:
-            p.parent.mkdir(parents=True, exist_ok=True)
-            p.write_text(self.html, encoding="utf-8")
-        except OSError as exc:
-            raise TracerError(f"cannot write {p}: {exc.strerror or exc}") from None
-        return p
+        return atomic_write_text(Path(path), self.html)  # TracerError when unwritable
 
 
 def build_report(scene, *, result=None, figures: bool = True, kinds=None, segments: int = 3000,

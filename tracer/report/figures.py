@@ -231,6 +231,7 @@ def save_figures(result, analysis, folder, *, kinds=KINDS, formats=("png",),
     Files are ``folder/PREFIX + name + "." + format`` for each format (png, svg).
     """
     from ..errors import TracerError
+    from ..outputs import atomic_savefig
 
     folder = Path(folder)
     written = []
@@ -241,7 +242,7 @@ def save_figures(result, analysis, folder, *, kinds=KINDS, formats=("png",),
                 kw = dict(format=fmt, bbox_inches="tight", pad_inches=0.06, facecolor="white")
                 if fmt == "png":
                     kw["dpi"] = 170
-                f.figure.savefig(target, **kw)
+                atomic_savefig(f.figure, target, **kw)  # temporary file, then rename
                 written.append(target)
         except OSError as exc:
             raise TracerError(f"cannot write {folder}: {exc.strerror or exc}") from None

@@ -52,6 +52,7 @@ def summarize(scene: Scene) -> dict:
                 "coating": tr.coating_name if tr else None,
                 "reflectance": None if tr is None or tr.reflectance is None else _f(tr.reflectance),
                 "normal": _v(g.face_normals[i]),
+                "centroid_m": _v(g.face_centroid(i)),
             }
         solids[name] = {
             "kind": s.kind,
@@ -128,6 +129,7 @@ def summarize(scene: Scene) -> dict:
         "detectors": detectors,
         "requirements": requirements,
         "notes": list(scene.notes),
+        "warnings": index_basis_warnings(scene),
     }
     tolerances = _tolerances(scene)
     if tolerances:  # only for scenes that carry [tolerances] (checked by the loader)
@@ -145,6 +147,65 @@ def _aim(aim) -> dict | None:
             "wavelength_m": None if aim.wavelength is None else _f(aim.wavelength)}
 
 
+#: Inline material models whose numbers are relative to air unless ``index_basis = "vacuum"``.
+_AIR_DEFAULT_MODELS = ("constant", "cauchy", "sellmeier", "table")
+
+
+def index_basis_warnings(scene: Scene) -> list[str]:
+    """Warnings for inline materials whose numbers are read relative to air (the default
+    ``index_basis``, not written in the file) in a vacuum ambient.
+
+    There an inline ``n = 1.5`` becomes the absolute index ``1.5 × n_air`` (1.50042 at
+    550 nm), not the 1.5 the file seems to say (DEVELOPERS.md, "Index basis"). A material
+    that states ``index_basis`` explicitly is taken as meant and not warned about.
+    """
+
+    try:
+        wl = np.asarray(scene.spectrum.wavelengths, float)
+        amb = np.asarray(scene.ambient.refractive_index(wl, extrapolate=True))
+    except Exception:  # noqa: BLE001 - no usable ambient: nothing to compare
+        return []
+    if not np.all(np.abs(amb - 1.0) < 1e-12):
+        return []  # not a vacuum ambient
+    mats = (scene.raw or {}).get("materials") or {}
+    used: dict[str, list[str]] = {}
+    for name, s in scene.solids.items():
+        used.setdefault(s.material_name, []).append(f"solids.{name}")
+    for name, g in scene.gaps.items():
+        used.setdefault(g.medium_name, []).append(f"gaps.{name}")
+    where = f"{scene.path}: " if scene.path else ""
+    out = []
+    for name, table in mats.items():
+        if not isinstance(table, dict) or table.get("model") not in _AIR_DEFAULT_MODELS:
+            continue
+        if "index_basis" in table:
+            continue
+        model = None
+        for s in scene.solids.values():
+            if s.material_name == name:
+                model = s.material
+        for g in scene.gaps.values():
+            if g.medium_name == name:
+                model = g.medium
+        example = ""
+        if model is not None and hasattr(model, "relative_index"):
+            w0 = float(wl[0])
+            try:
+                rel = complex(np.ravel(model.relative_index(w0, extrapolate=True))[0]).real
+                ab = complex(np.ravel(model.refractive_index(w0, extrapolate=True))[0]).real
+                example = (f" (at {units.format_wavelength(w0)}: {rel:.6g} relative to air is "
+                           f"{ab:.7g} in vacuum)")
+            except Exception:  # noqa: BLE001 - the example is optional
+                example = ""
+        users = f", used by {', '.join(used[name])}" if name in used else ""
+        out.append(f"{where}materials.{name}: its numbers are relative to air (the default "
+                   f"index_basis), but the ambient is vacuum, so each index is multiplied by "
+                   f"the index of standard air{example}{users}; add index_basis = \"vacuum\" if "
+                   f"they are absolute indices, or index_basis = \"air\" to keep them and "
+                   f"silence this warning")
+    return out
+
+
 def _tolerances(scene: Scene) -> dict:
     """``{name: {keys, index, dist, scale}}`` of the scene's ``[tolerances.NAME]`` tables."""
     tables = (scene.raw or {}).get("tolerances") or {}
@@ -159,6 +220,11 @@ def _tolerances(scene: Scene) -> dict:
             "scale": t.get("sigma" if dist == "normal" else "half_width"),
         }
     return out
+
+
+def _direction(v) -> str:
+    """A unit vector as ``[0.7071, -0.7071, 0]`` (4 decimals, no negative zero)."""
+    return "[" + ", ".join(f"{(round(float(c), 4) + 0.0):.4g}" for c in v) + "]"
 
 
 def _len(x) -> str:
@@ -190,7 +256,8 @@ def format_summary(summary: dict) -> str:
                 what += f" ({f['coating']})"
             if f["reflectance"] is not None:
                 what += f", R = {f['reflectance']:g}"
-            lines.append(f"    {face}: {what}")
+            lines.append(f"    {face}: {what}; normal {_direction(f['normal'])}, centroid "
+                         "[" + ", ".join(f"{v * 1e3 + 0.0:.6g}" for v in f["centroid_m"]) + "] mm")
     lines.append(f"gaps ({len(s['gaps'])}):")
     for name, g in s["gaps"].items():
         wedge = f", wedge {units.format_angle(g['wedge_rad'])}" if g["wedge_rad"] else ""
@@ -245,4 +312,7 @@ def format_summary(summary: dict) -> str:
     if s["notes"]:
         lines.append(f"notes ({len(s['notes'])}):")
         lines.extend(f"  {n}" for n in s["notes"])
+    if s.get("warnings"):
+        lines.append(f"warnings ({len(s['warnings'])}):")
+        lines.extend(f"  warning: {w}" for w in s["warnings"])
     return "\n".join(lines)

@@ -61,4 +61,6 @@ def write(scene: Scene, path: str | os.PathLike) -> None:
     target = Path(path)
     header = f"# tracer scene (format {FORMAT_VERSION}), written by tracer {__version__}\n"
     text = header + tomli_w.dumps(to_document(scene, relative_to=target.resolve().parent))
-    target.write_text(text, encoding="utf-8")
+    from ..outputs import atomic_write_text
+
+    atomic_write_text(target, text)  # temporary file, then rename: never half-written

@@ -254,6 +254,9 @@ class ProcessBackend:
                 "a worker process ended abruptly (out of memory, or, with the spawn start "
                 "method, a script that starts work at import: guard it with "
                 "if __name__ == '__main__':)") from exc
+        except KeyboardInterrupt:
+            self._stop_now()
+            raise
         except BaseException:
             for fut in futures:
                 fut.cancel()
@@ -264,6 +267,23 @@ class ProcessBackend:
         if self._pool is not None:
             self._pool.shutdown(wait=True, cancel_futures=True)
             self._pool = None
+
+    def _stop_now(self):
+        """After Ctrl-C: drop every task and end the workers at once (a task may be long)."""
+        pool, self._pool = self._pool, None
+        if pool is None:
+            return
+        for fut in list(getattr(pool, "_pending_work_items", {}).values()):
+            fut.future.cancel()
+        # forget the tasks, so that the pool's manager thread, seeing its workers gone, has
+        # no future left to fail (it would report each cancelled one with a traceback)
+        getattr(pool, "_pending_work_items", {}).clear()
+        pool.shutdown(wait=False, cancel_futures=True)
+        for proc in list((getattr(pool, "_processes", None) or {}).values()):
+            try:
+                proc.terminate()
+            except Exception:  # noqa: BLE001 - already ended
+                pass
 
     def __enter__(self):
         return self
@@ -285,7 +305,12 @@ def _import_distributed():
 
 
 def _start_worker():
-    """Worker start-up: load the engine's compiled kernels once, before any task."""
+    """Worker start-up: ignore Ctrl-C (the parent handles it: one line, exit 130; a worker
+    ends after its current task, with no traceback), then load the engine's compiled
+    kernels once, before any task."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
     from ..engine.warm import warm_up
 
     warm_up()

@@ -132,8 +132,12 @@ def plot_sensitivity(ranking, *, ax=None, title: str = ""):
 
 def _save(ax, path):
     fig = ax.figure
-    fig.savefig(path, dpi=120)
-    _plt().close(fig)
+    from ..outputs import atomic_savefig
+
+    try:
+        atomic_savefig(fig, path, dpi=120)  # temporary file, then rename
+    finally:
+        _plt().close(fig)
     return Path(path)
 
 

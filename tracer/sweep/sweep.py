@@ -159,10 +159,9 @@ def _finite(row: dict) -> dict:
 
 
 def _write(path, text):
-    try:
-        Path(path).write_text(text, encoding="utf-8")
-    except OSError as exc:
-        raise TracerError(f"cannot write {path}: {exc.strerror or exc}") from None
+    from ..outputs import atomic_write_text
+
+    atomic_write_text(path, text)  # temporary file, then rename; TracerError when unwritable
 
 
 def sweep(scene, axes: Sequence[Axis], *, settings: dict | None = None,

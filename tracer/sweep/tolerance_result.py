@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import tolerances as _tol
+from ..outputs import atomic_write_text
 
 __all__ = ["ToleranceResult", "spearman"]
 
@@ -224,7 +225,7 @@ class ToleranceResult:
     def to_json(self, path=None) -> str:
         text = json.dumps(self.to_dict(), indent=2).replace('"yield_"', '"yield"')
         if path is not None:
-            Path(path).write_text(text + "\n", encoding="utf-8")
+            atomic_write_text(path, text + "\n")
         return text
 
     def to_csv(self, path=None) -> str:
@@ -238,7 +239,7 @@ class ToleranceResult:
                 for i, r in enumerate(self.rows)]
         text = csv_text(header, body)
         if path is not None:
-            Path(path).write_text(text, encoding="utf-8")
+            atomic_write_text(path, text)
         return text
 
     def format_text(self) -> str:
