@@ -269,21 +269,32 @@ class ProcessBackend:
             self._pool = None
 
     def _stop_now(self):
-        """After Ctrl-C: drop every task and end the workers at once (a task may be long)."""
+        """After Ctrl-C: drop every task and end the workers at once (a task may be long).
+
+        The pool's manager thread, finding its workers gone, fails on the cancelled tasks;
+        its exceptions are silenced, and the queue feeder is not joined at exit (its reader
+        is gone, so the join could block for ever: seen as a hang after Ctrl-C under load).
+        """
         pool, self._pool = self._pool, None
         if pool is None:
             return
+        manager = getattr(pool, "_executor_manager_thread", None)
+        if manager is not None:
+            _silence_thread(manager)
         for fut in list(getattr(pool, "_pending_work_items", {}).values()):
             fut.future.cancel()
-        # forget the tasks, so that the pool's manager thread, seeing its workers gone, has
-        # no future left to fail (it would report each cancelled one with a traceback)
-        getattr(pool, "_pending_work_items", {}).clear()
-        pool.shutdown(wait=False, cancel_futures=True)
+        queue = getattr(pool, "_call_queue", None)
+        if queue is not None:
+            try:
+                queue.cancel_join_thread()
+            except Exception:  # noqa: BLE001 - a queue of another implementation
+                pass
         for proc in list((getattr(pool, "_processes", None) or {}).values()):
             try:
                 proc.terminate()
             except Exception:  # noqa: BLE001 - already ended
                 pass
+        pool.shutdown(wait=False, cancel_futures=True)
 
     def __enter__(self):
         return self
@@ -293,6 +304,19 @@ class ProcessBackend:
 
     def __repr__(self):
         return f"ProcessBackend(workers={self.workers}, start_method={self.start_method!r})"
+
+
+def _silence_thread(thread) -> None:
+    """Ignore uncaught exceptions of ``thread`` (others go to the previous hook)."""
+    import threading
+
+    previous = threading.excepthook
+
+    def hook(args):
+        if args.thread is not thread:
+            previous(args)
+
+    threading.excepthook = hook
 
 
 def _import_distributed():
