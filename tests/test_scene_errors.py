@@ -119,7 +119,7 @@ CASES = [
     ("inline material with a bad model", lambda d: _set(d, "materials", {"g": {"model": "sellmeyer"}}),
      "materials.g.model", 'did you mean "sellmeier"?'),
     ("inline constant with negative index", lambda d: _set(d, "materials", {"g": {"model": "constant", "n": -1.5}}),
-     "materials.g.n", "expected a number > 0"),
+     "materials.g.n", "expected a refractive index (real part) >= 0.001"),
     ("coating with a missing layer thickness",
      lambda d: _set(d, "coatings.ar_coat", {"kind": "stack", "layers": [{"material": "mgf2"}]}),
      "coatings.ar_coat.layers[0]", 'exactly one of "thickness"'),

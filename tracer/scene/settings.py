@@ -12,6 +12,7 @@ from ..errors import TracerError
 from .model import Spectrum, TraceSettings
 from .problems import describe_value
 from .quantities import LENGTH_UNITS
+from .ranges import threshold_problem
 from .reader import Table
 
 __all__ = ["Header", "read_header", "read_spectrum", "read_trace", "GapFinding",
@@ -86,7 +87,11 @@ def read_trace(t: Table | None) -> tuple[TraceSettings, tuple[str, ...] | None]:
     if t is None:
         return TraceSettings(), None
     mode = t.string("mode", default="tree", choices=TRACE_MODES)
-    threshold = t.number("power_threshold", default=1e-6, minimum=0.0, maximum=1.0)
+    threshold = t.raw("power_threshold", 1e-6)
+    t._asked("power_threshold", "number", 1e-6)  # a number, or "auto"
+    if threshold_problem(threshold) is not None:
+        t.error("power_threshold", f"{threshold_problem(threshold)}, got {describe_value(threshold)}")
+        threshold = None
     max_events = t.integer("max_events", default=64, minimum=1, maximum=100_000)
     sequence = t.strings("sequence")
     t.finish()
