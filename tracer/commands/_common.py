@@ -64,8 +64,19 @@ def _fraction(text: str) -> float:
         value = float(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"expected a fraction such as 1e-6, got {text!r}") from None
-    if not 0 <= value < 1:
-        raise argparse.ArgumentTypeError(f"expected a fraction in [0, 1), got {text!r}")
+    from ..scene.ranges import POWER_THRESHOLD_MIN
+    if not POWER_THRESHOLD_MIN <= value < 1:
+        raise argparse.ArgumentTypeError(f"expected a fraction t with {POWER_THRESHOLD_MIN:g} <= t < 1, "
+                                         f"got {text!r}")
+    return value
+
+
+def _ray_count(text: str) -> int:
+    from ..scene.ranges import MAX_RAYS
+    value = whole_number(text, minimum=1, expected="a positive whole number")
+    if value > MAX_RAYS:
+        raise argparse.ArgumentTypeError(f"expected at most {MAX_RAYS} rays per spectral line "
+                                         f"(the scene file's limit too), got {text!r}")
     return value
 
 
@@ -80,7 +91,7 @@ def add_scene(parser, *, many: bool = False) -> None:
 def add_trace_options(parser) -> None:
     """``--rays``, ``--seed``, ``--threshold``, ``--max-events``, ``--mode``."""
     g = parser.add_argument_group("trace settings (default: from the scene file)")
-    g.add_argument("--rays", type=_positive_int, metavar="N",
+    g.add_argument("--rays", type=_ray_count, metavar="N",
                    help="geometric rays per spectral line for every source")
     g.add_argument("--seed", type=_seed, metavar="N", help="random seed")
     g.add_argument("--threshold", type=_fraction, metavar="X",
@@ -90,6 +101,9 @@ def add_trace_options(parser) -> None:
                    help="rays reaching this many events are cut")
     g.add_argument("--mode", choices=("tree", "monte-carlo"),
                    help="tree: split every ray (exact path powers); monte-carlo: one child per event")
+    g.add_argument("--allow-large", action="store_true",
+                   help="trace even when the estimate (from a small pilot trace) says the run "
+                        "would not fit this machine's memory or take more than about an hour")
 
 
 def add_output_options(parser, *, out: bool = True, json_help: str | None = None) -> None:
@@ -156,10 +170,23 @@ def trace_scene(scene, args, **extra):
     """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
     from ..engine import trace
 
+    from ..engine.estimate import EVENT_BUDGET, check_fits, machine_memory
+
     settings = trace_settings(args)
     settings.update(extra)
     settings.setdefault("progress", None if not getattr(args, "quiet", False) else False)
-    return trace(scene, **settings)
+    allow_large = bool(getattr(args, "allow_large", False))
+    check_fits(scene, allow_large=allow_large, **settings)  # refuses what would not fit
+    if not allow_large:  # a run the estimate misjudged still ends, with a message
+        settings.setdefault("event_budget", 2 * EVENT_BUDGET)
+        settings.setdefault("memory_budget", machine_memory())
+    from ..engine.tree import EventBudgetExceeded
+    try:
+        return trace(scene, **settings)
+    except EventBudgetExceeded as exc:
+        raise TracerError(f"{exc}; the estimate before the trace was too low. Use fewer rays "
+                          "(--rays), a higher power threshold (--threshold) or fewer events per "
+                          "ray (--max-events), or pass --allow-large to trace it anyway") from None
 
 
 def out_dir(path: str | None, default: str | None = None) -> Path | None:
