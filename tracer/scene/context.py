@@ -50,6 +50,7 @@ class Build:
     spectrum: Any = None
     gaps: dict[str, Any] = field(default_factory=dict)
     gap_keys: set[str] = field(default_factory=set)
+    mate_gap_keys: set[str] = field(default_factory=set)  # gap names of every mate table
     detectors: dict[str, Any] = field(default_factory=dict)
     detector_keys: set[str] = field(default_factory=set)
 
