@@ -168,7 +168,7 @@ EXTREME_NUMBERS = [0, -1, 0.0, -0.0, 1e308, -1e308, 1e300, 1e-300, -1e-300, 5e-3
                    math.nan, math.inf, -math.inf, 2**63 - 1, -2**63, 1e15, 1, 1.0000000001]
 EXTREME_NUMBER_TEXT = ["0", "-1", "-2", "1e308", "1e-300", "5e-324", "1e300", "nan", "inf", "-0"]
 EXTREME_OTHERS = ["nan", "inf", "-2 um", "1e308 mm", "1e-300 mm", "5e-324 W", "1e308 mW", "0 W",
-                  "nan mm", "1e-300 nm", "1e308 deg", "", "auto", "x", True, False, [], {},
+                  "nan mm", "1e-300 nm", "1e308 deg", "", "x", True, False, [], {},
                   [1e308, 1e308, 1e308], [5e-324, 0, 0], [0.0] * 1000, ["x", 1, 2], [[1, 2], 3],
                   {"a": 1}, 10**18]
 _QUANT = re.compile(r"^\s*[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(?P<unit>\S.*)$")
