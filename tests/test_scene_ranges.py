@@ -115,3 +115,23 @@ def test_scene_without_sources_traces_at_its_own_spectrum(tmp_path, capsys):
     assert main(["check", "-q", path]) == 0
     assert main(["run", "-q", path]) == 0
     assert "Traceback" not in capsys.readouterr().err
+
+
+def test_missing_mesh_package_is_named_with_its_install_command(tmp_path, monkeypatch):
+    import sys
+
+    import trimesh
+    trimesh.creation.box(extents=[10, 10, 10]).export(tmp_path / "box.stl")
+    doc = base()
+    doc["dimension"] = 3
+    doc["solids"] = {"m": {"material": "fused-silica", "kind": "mesh", "path": "box.stl"}}
+    for k in ("sources", "detectors", "requirements", "coatings"):
+        doc.pop(k, None)
+    path = _write(tmp_path, doc)
+    monkeypatch.setitem(sys.modules, "trimesh", None)  # as if it were not installed
+    from tracer.scene import SceneError, load
+    with pytest.raises(SceneError) as info:
+        load(path)
+    [p] = info.value.problems
+    assert p.key == "solids.m" and "optional package 'trimesh'" in p.message
+    assert "pip install trimesh" in p.message
