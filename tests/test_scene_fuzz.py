@@ -157,7 +157,7 @@ import numpy as np
 
 FUZZ_SEED = 20261203
 #: Mutants that are only loaded / loaded and traced / run through ``tracer check`` and ``run``.
-N_LOAD, N_TRACE, N_CLI = 2500, 200, 30
+N_LOAD, N_TRACE, N_CLI = 2000, 200, 30
 #: Cheap scenes are drawn more often (the fuzz test must fit the normal test run).
 _WEIGHT = {"corner_cube_retroreflector": 1, "cube_beamsplitter_camera": 1, "porro_erecting_pair": 1,
            "microwave_prism_coupler": 1, "tir_prism_pair": 2, "fresnel_rhomb_retarder": 3,

@@ -169,8 +169,8 @@ def trace_settings(args) -> dict:
 def trace_scene(scene, args, **extra):
     """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
     from ..engine import trace
-
     from ..engine.estimate import EVENT_BUDGET, check_fits, machine_memory
+    from ..engine.tree import EventBudgetExceeded
 
     settings = trace_settings(args)
     settings.update(extra)
@@ -180,7 +180,6 @@ def trace_scene(scene, args, **extra):
     if not allow_large:  # a run the estimate misjudged still ends, with a message
         settings.setdefault("event_budget", 2 * EVENT_BUDGET)
         settings.setdefault("memory_budget", machine_memory())
-    from ..engine.tree import EventBudgetExceeded
     try:
         return trace(scene, **settings)
     except EventBudgetExceeded as exc:

@@ -12,7 +12,9 @@ event budget) with the trace's own settings and extrapolates:
 - memory = interpreter and kernels + path tree + kept detector hits + the depth-first
   stack of active rays (at most ``chunk`` rays per level of the deepest pilot path).
 
-The per-item sizes are measured orders of magnitude of the engine's arrays
+The pilot takes the first source-ray indices, which are the first spectral line's
+(line-major order); a line that behaves very differently is caught by the trace's own
+budgets instead. The per-item sizes are measured orders of magnitude of the engine's arrays
 (engineering estimate, no source). :func:`check_fits` compares the estimate with this
 machine's budget (available memory, and an event count of about an hour of tracing) and
 raises :class:`TooLarge` (a :class:`~tracer.errors.TracerError`) naming the estimate and
