@@ -202,10 +202,44 @@ def _extreme_for(value, rng: random.Random):
     return rng.choice(EXTREME_OTHERS)
 
 
-def extreme_mutant(rng: random.Random):
-    """(scene index, mutated document): 1 to 3 extreme replacements or deletions."""
+def _is_quantity(value) -> bool:
+    """A number, or a "<number> <unit>" string: the values extremes are made of."""
+    if isinstance(value, bool):
+        return False
+    return isinstance(value, (int, float)) or (isinstance(value, str) and bool(_QUANT.match(value)))
+
+
+def extreme_mutant(rng: random.Random, *, numbers_only: bool = False):
+    """(scene index, mutated document): 1 to 3 extreme replacements or deletions; with
+    ``numbers_only`` one number or quantity made extreme (such mutants often still load,
+    so they reach the engine)."""
     i = rng.choices(range(len(SCENES)), weights=_WEIGHTS)[0]
     doc = copy.deepcopy(DOCS[i])
+    if numbers_only and doc.get("solids") and rng.random() < 0.2:
+        # an inline material of extreme index for one solid (the index class of mutants)
+        solid = rng.choice(sorted(doc["solids"]))
+        n = rng.choice([1e308, 1e300, 1e-300, 5e-324, 1e3, 1e-4, 1.5])
+        k = rng.choice([0.0, 0.0, 1e308, 5e-324, 1e5])
+        doc.setdefault("materials", {})["fuzz_index"] = {"model": "constant", "n": n, "k": k}
+        doc["solids"][solid]["material"] = "fuzz_index"
+        return i, doc
+    if numbers_only:
+        paths = [p for p in _leaves(doc) if p[0] not in ("format", "seed")]
+        parents = []
+        for path in paths:
+            parent = doc
+            for k in path[:-1]:
+                parent = parent[k]
+            if _is_quantity(parent[path[-1]]):
+                parents.append((parent, path[-1]))
+        parent, key = rng.choice(parents)
+        value = parent[key]
+        if isinstance(value, str):
+            unit = _QUANT.match(value)["unit"]
+            parent[key] = f"{rng.choice(EXTREME_NUMBER_TEXT)} {unit}"
+        else:
+            parent[key] = rng.choice(EXTREME_NUMBERS)
+        return i, doc
     for _ in range(rng.choice([1, 1, 2, 3])):
         paths = [p for p in _leaves(doc) if p[0] != "format"]
         if not paths:
@@ -269,7 +303,7 @@ def test_extreme_mutants_trace_with_closure_and_finite_outputs():
     for _ in range(20 * N_TRACE):  # the first N_TRACE mutants that load are traced
         if traced + stopped >= N_TRACE:
             break
-        scene = _load(extreme_mutant(rng)[1])
+        scene = _load(extreme_mutant(rng, numbers_only=rng.random() < 0.8)[1])
         if scene is None:
             continue
         try:
@@ -308,7 +342,7 @@ def test_extreme_mutants_through_the_command_line(tmp_path):
     for k in range(40 * N_CLI):
         if ran + refused >= N_CLI:
             break
-        i, doc = extreme_mutant(rng)
+        i, doc = extreme_mutant(rng, numbers_only=rng.random() < 0.8)
         try:
             text = tomli_w.dumps(doc)
         except (TypeError, ValueError):
@@ -322,7 +356,7 @@ def test_extreme_mutants_through_the_command_line(tmp_path):
         try:
             checked, _ = call(["check", "-q", str(path)])
             argv = ["run", "-q", str(path), "--rays", "3", "--json", str(tmp_path / f"{k}.json")]
-            if k % 6 == 0:
+            if k % 5 == 0:
                 argv += ["--out", str(tmp_path / f"out-{k}")]  # with figures
             code, text = call(argv)
         finally:
