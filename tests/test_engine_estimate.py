@@ -57,3 +57,11 @@ def test_cli_refuses_a_run_that_would_not_fit(monkeypatch, capsys):
     assert "would not fit this machine" in err and "--allow-large" in err
     assert "Traceback" not in err
     assert main(["run", "-q", PLATE, "--allow-large"]) in (0, 1)
+
+
+def test_report_and_ghosts_refuse_too(monkeypatch, capsys, tmp_path):
+    monkeypatch.setattr(est, "machine_memory", lambda: 1e6)
+    assert main(["report", PLATE, "--out", str(tmp_path), "--no-figures", "-q"]) == 2
+    assert main(["ghosts", PLATE, "-q"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("--allow-large") == 2 and "Traceback" not in err

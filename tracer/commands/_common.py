@@ -166,20 +166,29 @@ def trace_settings(args) -> dict:
     return settings
 
 
+def guard_settings(scene, args, settings: dict) -> dict:
+    """Refuse a trace that would not fit this machine (unless ``--allow-large``) and return
+    ``settings`` with the event and memory budgets that stop a misjudged run."""
+    from ..engine.estimate import EVENT_BUDGET, check_fits, machine_memory
+
+    allow_large = bool(getattr(args, "allow_large", False))
+    check_fits(scene, allow_large=allow_large, **settings)  # raises TooLarge
+    settings = dict(settings)
+    if not allow_large:  # a run the estimate misjudged still ends, with a message
+        settings.setdefault("event_budget", 2 * EVENT_BUDGET)
+        settings.setdefault("memory_budget", machine_memory())
+    return settings
+
+
 def trace_scene(scene, args, **extra):
     """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
     from ..engine import trace
-    from ..engine.estimate import EVENT_BUDGET, check_fits, machine_memory
     from ..engine.tree import EventBudgetExceeded
 
     settings = trace_settings(args)
     settings.update(extra)
     settings.setdefault("progress", None if not getattr(args, "quiet", False) else False)
-    allow_large = bool(getattr(args, "allow_large", False))
-    check_fits(scene, allow_large=allow_large, **settings)  # refuses what would not fit
-    if not allow_large:  # a run the estimate misjudged still ends, with a message
-        settings.setdefault("event_budget", 2 * EVENT_BUDGET)
-        settings.setdefault("memory_budget", machine_memory())
+    settings = guard_settings(scene, args, settings)
     try:
         return trace(scene, **settings)
     except EventBudgetExceeded as exc:

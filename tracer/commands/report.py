@@ -54,7 +54,8 @@ def run(args) -> int:
     settings["progress"] = None if not args.quiet else False
     failed = False
     for path, scene in zip(args.scenes, scenes):
-        rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **settings)
+        guarded = c.guard_settings(scene, args, settings)  # refuses what would not fit
+        rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **guarded)
         target = rep.write(out / f"{c.scene_stem(scene)}.html")
         if args.json:
             write_json(run_summary(rep.analysis), args.json)
