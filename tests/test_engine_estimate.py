@@ -65,3 +65,14 @@ def test_report_and_ghosts_refuse_too(monkeypatch, capsys, tmp_path):
     assert main(["ghosts", PLATE, "-q"]) == 2
     err = capsys.readouterr().err
     assert err.count("--allow-large") == 2 and "Traceback" not in err
+
+
+def test_sweep_and_tolerance_refuse_what_would_not_fit(monkeypatch, capsys):
+    coupler = str(Path(__file__).parent.parent / "scenes" / "microwave_prism_coupler.toml")
+    monkeypatch.setattr(est, "EVENT_BUDGET", 1000)  # every point's events count
+    code = main(["sweep", coupler, "--vary", "solids.output.mate.gap", "2mm", "4mm", "3",
+                 "--workers", "1", "-q"])
+    assert code == 2
+    assert main(["tolerance", coupler, "--trials", "5", "--workers", "1", "-q"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("--allow-large") == 2 and "Traceback" not in err

@@ -180,6 +180,16 @@ def guard_settings(scene, args, settings: dict) -> dict:
     return settings
 
 
+def guard_points(scene, args, settings: dict, points: int) -> None:
+    """Refuse a sweep or tolerance run of ``points`` traces of (about) ``scene`` whose events
+    together, or whose memory per trace, would not fit this machine (unless ``--allow-large``)."""
+    from ..engine.estimate import EVENT_BUDGET, check_fits
+
+    points = max(int(points), 1)
+    check_fits(scene, allow_large=bool(getattr(args, "allow_large", False)),
+               event_budget=EVENT_BUDGET / points, **settings)
+
+
 def trace_scene(scene, args, **extra):
     """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
     from ..engine import trace
