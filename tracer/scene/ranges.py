@@ -111,8 +111,9 @@ def describe_si(kind: str, value: float) -> str:
     return f"{value:.6g} {RANGES[kind].unit}" if kind in RANGES else f"{value:.6g}"
 
 
-def check_quantity(kind: str, si: float) -> str | None:
-    """What is wrong with the SI value ``si`` of ``kind`` (``None`` when in range)."""
+def check_quantity(kind: str, si: float, *, zero_allowed: bool = True) -> str | None:
+    """What is wrong with the SI value ``si`` of ``kind`` (``None`` when in range);
+    ``zero_allowed`` only changes the wording (the caller checks the sign)."""
     r = RANGES.get(kind)
     if r is None:
         return None
@@ -121,7 +122,8 @@ def check_quantity(kind: str, si: float) -> str | None:
         return (f"expected a {kind} of magnitude at most {r.shown[0]} ({r.reason}), "
                 f"got {describe_si(kind, si)}")
     if 0 < mag < r.smallest:
-        return (f"expected a {kind} of zero or of magnitude at least {r.shown[1]} ({r.reason}), "
+        zero = "zero or " if zero_allowed else ""
+        return (f"expected a {kind} of {zero}magnitude at least {r.shown[1]} ({r.reason}), "
                 f"got {describe_si(kind, si)}")
     return None
 

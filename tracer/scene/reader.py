@@ -355,7 +355,7 @@ class Table:
             want = "positive" if positive else "non-negative"
             self.error(label, f"expected a {want} {kind}, got a {sign} {kind} ({_shown(value)})")
             return None
-        out_of_range = check_quantity(kind, si)
+        out_of_range = check_quantity(kind, si, zero_allowed=not positive)
         if out_of_range is not None:
             self.error(label, f"{out_of_range} (from {_shown(value)})")
             return None
