@@ -119,7 +119,7 @@ CASES = [
     ("inline material with a bad model", lambda d: _set(d, "materials", {"g": {"model": "sellmeyer"}}),
      "materials.g.model", 'did you mean "sellmeier"?'),
     ("inline constant with negative index", lambda d: _set(d, "materials", {"g": {"model": "constant", "n": -1.5}}),
-     "materials.g.n", "expected a number > 0"),
+     "materials.g.n", "expected a refractive index (real part) >= 0.001"),
     ("coating with a missing layer thickness",
      lambda d: _set(d, "coatings.ar_coat", {"kind": "stack", "layers": [{"material": "mgf2"}]}),
      "coatings.ar_coat.layers[0]", 'exactly one of "thickness"'),
@@ -250,7 +250,36 @@ def test_mesh_problems(tmp_path):
     scene_file.write_text(tomli_w.dumps(doc))
     with pytest.raises(SceneError) as info:
         load(scene_file)
-    assert any(p.key == "solids.m.path" and "not found" in p.message for p in info.value.problems)
+    missing = [p for p in info.value.problems if p.key == "solids.m.path"]
+    assert missing and "missing or unreadable" in missing[0].message
+
+    # a file that exists but is not a mesh gets the very same message (no probing for files)
+    (tmp_path / "notes.stl").write_text("not a mesh")
+    doc["solids"]["m"]["path"] = "notes.stl"
+    scene_file.write_text(tomli_w.dumps(doc))
+    with pytest.raises(SceneError) as info:
+        load(scene_file)
+    garbled = [p for p in info.value.problems if p.key == "solids.m.path"]
+    assert [p.message for p in garbled] == [missing[0].message.replace("missing.stl", "notes.stl")]
+
+    # no doubled key path in geometry messages
+    doc["solids"]["m"]["path"] = "open.stl"
+    scene_file.write_text(tomli_w.dumps(doc))
+    with pytest.raises(SceneError) as info:
+        load(scene_file)
+    assert all("solids.m: solids.m" not in str(p) for p in info.value.problems)
+
+    # files outside the scene's folder tree: refused by default, read when allowed
+    inner = tmp_path / "inner"
+    inner.mkdir()
+    doc["solids"]["m"]["path"] = "../box.stl"
+    (inner / "scene.toml").write_text(tomli_w.dumps(doc))
+    with pytest.raises(SceneError) as info:
+        load(inner / "scene.toml")
+    outside = [p for p in info.value.problems if p.key == "solids.m.path"]
+    assert outside and "outside the scene file's folder" in outside[0].message
+    assert "--allow-outside-files" in outside[0].message
+    assert len(load(inner / "scene.toml", allow_outside_files=True).solids["m"].geometry.face_names) == 6
 
     doc["solids"]["m"]["path"] = "box.stl"
     scene_file.write_text(tomli_w.dumps(doc))

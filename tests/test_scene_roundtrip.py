@@ -7,7 +7,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from tracer.scene import dump, load, loads, summarize, write
+from tracer.scene import SceneError, dump, load, loads, summarize, write
 
 SCENES = sorted((Path(__file__).parent.parent / "scenes").glob("*.toml"))
 
@@ -78,7 +78,10 @@ height = 10
     first = load(src / "scene.toml")
     (tmp_path / "elsewhere").mkdir()
     write(first, tmp_path / "elsewhere" / "moved.toml")
-    again = load(tmp_path / "elsewhere" / "moved.toml")
+    # the rebased path leaves the new file's folder: read only when allowed
+    with pytest.raises(SceneError):
+        load(tmp_path / "elsewhere" / "moved.toml")
+    again = load(tmp_path / "elsewhere" / "moved.toml", allow_outside_files=True)
     assert again.raw["solids"]["block"]["path"] == "../src/parts/box.stl"
     _same_geometry(first, again)
 

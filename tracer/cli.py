@@ -63,6 +63,8 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"tracer {__version__}")
+    parser.add_argument("--allow-outside-files", action="store_true",
+                        help="let scenes read mesh files outside their own folder tree")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for module in _available_commands():
         p = sub.add_parser(
@@ -91,6 +93,10 @@ def _main(argv):
     if not getattr(args, "_run", None):
         parser.print_help()
         return EXIT_INPUT_ERROR
+    if getattr(args, "allow_outside_files", False):
+        import os
+        from .scene.loader import ALLOW_OUTSIDE_ENV
+        os.environ[ALLOW_OUTSIDE_ENV] = "1"  # the loader, and sweep workers, read it
     try:
         return int(args._run(args) or 0)
     except TracerError as exc:

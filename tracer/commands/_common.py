@@ -66,8 +66,19 @@ def _fraction(text: str) -> float:
         value = float(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f'expected a fraction such as 1e-6 or "auto", got {text!r}') from None
-    if not 0 <= value < 1:
-        raise argparse.ArgumentTypeError(f"expected a fraction in [0, 1), got {text!r}")
+    from ..scene.ranges import POWER_THRESHOLD_MIN
+    if not POWER_THRESHOLD_MIN <= value < 1:
+        raise argparse.ArgumentTypeError(f"expected a fraction t with {POWER_THRESHOLD_MIN:g} <= t < 1, "
+                                         f"got {text!r}")
+    return value
+
+
+def _ray_count(text: str) -> int:
+    from ..scene.ranges import MAX_RAYS
+    value = whole_number(text, minimum=1, expected="a positive whole number")
+    if value > MAX_RAYS:
+        raise argparse.ArgumentTypeError(f"expected at most {MAX_RAYS} rays per spectral line "
+                                         f"(the scene file's limit too), got {text!r}")
     return value
 
 
@@ -82,7 +93,7 @@ def add_scene(parser, *, many: bool = False) -> None:
 def add_trace_options(parser) -> None:
     """``--rays``, ``--seed``, ``--threshold``, ``--max-events``, ``--mode``."""
     g = parser.add_argument_group("trace settings (default: from the scene file)")
-    g.add_argument("--rays", type=_positive_int, metavar="N",
+    g.add_argument("--rays", type=_ray_count, metavar="N",
                    help="geometric rays per spectral line for every source")
     g.add_argument("--seed", type=_seed, metavar="N", help="random seed")
     g.add_argument("--threshold", type=_fraction, metavar="X",
@@ -93,6 +104,9 @@ def add_trace_options(parser) -> None:
                    help="rays reaching this many events are cut")
     g.add_argument("--mode", choices=("tree", "monte-carlo"),
                    help="tree: split every ray (exact path powers); monte-carlo: one child per event")
+    g.add_argument("--allow-large", action="store_true",
+                   help="trace even when the estimate (from a small pilot trace) says the run "
+                        "would not fit this machine's memory or take more than about an hour")
 
 
 def add_output_options(parser, *, out: bool = True, json_help: str | None = None) -> None:
@@ -164,14 +178,45 @@ def trace_settings(args) -> dict:
     return settings
 
 
+def guard_settings(scene, args, settings: dict) -> dict:
+    """Refuse a trace that would not fit this machine (unless ``--allow-large``) and return
+    ``settings`` with the event and memory budgets that stop a misjudged run."""
+    from ..engine.estimate import EVENT_BUDGET, check_fits, machine_memory
+
+    allow_large = bool(getattr(args, "allow_large", False))
+    check_fits(scene, allow_large=allow_large, **settings)  # raises TooLarge
+    settings = dict(settings)
+    if not allow_large:  # a run the estimate misjudged still ends, with a message
+        settings.setdefault("event_budget", 2 * EVENT_BUDGET)
+        settings.setdefault("memory_budget", machine_memory())
+    return settings
+
+
+def guard_points(scene, args, settings: dict, points: int) -> None:
+    """Refuse a sweep or tolerance run of ``points`` traces of (about) ``scene`` whose events
+    together, or whose memory per trace, would not fit this machine (unless ``--allow-large``)."""
+    from ..engine.estimate import EVENT_BUDGET, check_fits
+
+    points = max(int(points), 1)
+    check_fits(scene, allow_large=bool(getattr(args, "allow_large", False)),
+               event_budget=EVENT_BUDGET / points, **settings)
+
+
 def trace_scene(scene, args, **extra):
     """Trace ``scene`` non-sequentially with the options of ``args`` (and ``extra``)."""
     from ..engine import trace
+    from ..engine.tree import EventBudgetExceeded
 
     settings = trace_settings(args)
     settings.update(extra)
     settings.setdefault("progress", None if not getattr(args, "quiet", False) else False)
-    return trace(scene, **settings)
+    settings = guard_settings(scene, args, settings)
+    try:
+        return trace(scene, **settings)
+    except EventBudgetExceeded as exc:
+        raise TracerError(f"{exc}; the estimate before the trace was too low. Use fewer rays "
+                          "(--rays), a higher power threshold (--threshold) or fewer events per "
+                          "ray (--max-events), or pass --allow-large to trace it anyway") from None
 
 
 def out_dir(path: str | None, default: str | None = None) -> Path | None:

@@ -55,7 +55,7 @@ def run(args) -> int:
     failed = False
     with c.manifest(out, NAME, args.scenes) as m:  # stale files of an earlier run removed
         for path, scene in zip(args.scenes, scenes):
-            rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **settings)
+            rep = build_report(scene, figures=not args.no_figures, ghost_limit=max(args.top, 1), **c.guard_settings(scene, args, settings))
             target = m.add(rep.write(out / f"{c.scene_stem(scene)}.html"))[0]
             if args.json:
                 write_json(run_summary(rep.analysis), args.json)

@@ -190,9 +190,10 @@ def _axis_cell(axis, value) -> str:
 def run(args) -> int:
     from ..sweep import sweep
 
-    c.load_scene(args.scene)  # the nominal scene first: its problems, not every point's
+    nominal = c.load_scene(args.scene)  # the nominal scene first: its problems, not every point's
     settings = c.trace_settings(args)
     axes = _axes(args)
+    c.guard_points(nominal, args, settings, math.prod(len(a.values) for a in axes))
     for option, given in (("--vary", args.vary), ("--values", args.values)):
         firsts = {a.path: a.values[0] for a in axes if any(g[0] == a.path for g in given)}
         check_new_keys(args.scene, firsts, option)

@@ -78,11 +78,12 @@ def run(args) -> int:
 
     if args.trials < 1:
         raise TracerError(f"--trials {args.trials}: expected a positive number of trials")
-    c.load_scene(args.scene)  # the nominal scene first: its problems, not every trial's
+    nominal = c.load_scene(args.scene)  # the nominal scene first: its problems, not every trial's
     tols = [parse_tol_option(p, d, s) for p, d, s in args.tol]
     check_new_keys(args.scene, {p: 0 for p, _, _ in args.tol}, "--tol")
     c.output_file(args.json, "--json", example="tolerance.json")
     settings = c.trace_settings(args)
+    c.guard_points(nominal, args, settings, args.trials)
     seed = settings.pop("seed", None)
     out = c.out_dir(args.out)
     backend = make_backend(args)

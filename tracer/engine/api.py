@@ -25,6 +25,10 @@ SETTINGS = {
     "segments": "record up to this many ray segments for drawing (0: none)",
     "max_hits": "keep at most this many individual detector hits (aggregates are always kept)",
     "progress": "progress bar on stderr: True, False or None (only when stderr is a terminal)",
+    "event_budget": "stop with EventBudgetExceeded once more than this many events are traced "
+                    "(None: no limit)",
+    "memory_budget": "stop with EventBudgetExceeded once the path tree and the active rays "
+                     "would take more than this many bytes (None: no limit)",
     "ray_range": "launch only source rays start <= j < stop: (start, stop) for every source, "
                  "or {source: (start, stop)} (sources not named launch none)",
 }
@@ -199,8 +203,9 @@ def _trace_once(scene, **settings) -> Result:
         uw, inv = np.unique(allw, return_inverse=True)
         uc = np.full(len(uw), np.inf)
         np.minimum.at(uc, inv, allc)
-    else:
-        uw, uc = np.array([550e-9]), np.array([np.inf])
+    else:  # no source: the scene's own spectrum (never a wavelength the scene did not ask for)
+        uw = np.unique(np.asarray(scene.spectrum.wavelengths, dtype=float))
+        uc = np.full(len(uw), np.inf)
     plan = []
     ranges = _ray_ranges(scene, getattr(opts, "ray_range", None))
     for i, (name, spec) in enumerate(scene.sources.items()):

@@ -43,7 +43,26 @@ from .ledger import Ledger
 from .montecarlo import BULK, FACE, choose, uniforms
 from .paths import ABSORB, DETECT, PathTree, _KeyTable
 
-__all__ = ["Options", "Recorder", "run"]
+__all__ = ["Options", "Recorder", "run", "EventBudgetExceeded"]
+
+
+class EventBudgetExceeded(EngineError):
+    """A trace passed its ``event_budget`` or ``memory_budget`` (it is stopped; nothing is
+    returned). ``events`` is the number of events traced when it stopped."""
+
+    def __init__(self, events: int, budget: float, *, what: str = "events", used: float = 0.0):
+        self.events, self.budget, self.what = int(events), float(budget), what
+        if what == "events":
+            text = f"its budget of {budget:.3g} ray-face events ({events:.3g} traced)"
+        else:
+            text = (f"its memory budget of {budget / 2**20:.4g} MiB (path tree and active rays "
+                    f"about {used / 2**20:.4g} MiB after {events:.3g} events)")
+        super().__init__(f"the trace passed {text} and was stopped")
+
+
+#: Bytes of one path-tree node and of one active ray, for ``memory_budget`` (measured
+#: orders of magnitude of the engine's arrays; engineering estimate).
+NODE_BYTES, RAY_BYTES = 320.0, 320.0
 
 
 @dataclass
@@ -61,6 +80,8 @@ class Options:
     progress: bool | None = None
     rays: object = None
     ray_range: object = None
+    event_budget: int | None = None
+    memory_budget: float | None = None
 
 
 class Recorder:
@@ -554,6 +575,14 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
                         merged.append(stack.pop())
                     cur = RayBatch.concatenate(merged)
                 nxt = tracer.step(cur, table)
+                if opts.event_budget is not None and rec.events > opts.event_budget:
+                    raise EventBudgetExceeded(rec.events, opts.event_budget)
+                if opts.memory_budget is not None:
+                    used = (len(tree) * NODE_BYTES
+                            + (len(nxt) + sum(len(x) for x in stack)) * RAY_BYTES)
+                    if used > opts.memory_budget:
+                        raise EventBudgetExceeded(rec.events, opts.memory_budget,
+                                                  what="memory", used=used)
                 if len(nxt):
                     stack.append(nxt)
             done += len(b)

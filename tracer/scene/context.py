@@ -23,6 +23,8 @@ class Build:
     dimension : 2 or 3
     base_dir : Path or None
         Directory that relative paths (meshes) are taken from.
+    allow_outside_files : bool
+        Whether mesh files outside ``base_dir``'s folder tree may be read.
     materials : dict[str, Any]
         Scene-local index models by name (``[materials.NAME]``).
     coatings : dict[str, FaceTreatment]
@@ -36,6 +38,7 @@ class Build:
     units: SceneUnits
     dimension: int = 3
     base_dir: Path | None = None
+    allow_outside_files: bool = False  # mesh files outside base_dir's folder tree
     materials: dict[str, Any] = field(default_factory=dict)
     material_keys: set[str] = field(default_factory=set)  # names defined but broken
     coatings: dict[str, Any] = field(default_factory=dict)
@@ -47,6 +50,7 @@ class Build:
     spectrum: Any = None
     gaps: dict[str, Any] = field(default_factory=dict)
     gap_keys: set[str] = field(default_factory=set)
+    mate_gap_keys: set[str] = field(default_factory=set)  # gap names of every mate table
     detectors: dict[str, Any] = field(default_factory=dict)
     detector_keys: set[str] = field(default_factory=set)
 

@@ -15,6 +15,7 @@ import numpy as np
 from .. import tolerances
 from .context import Build, resolve_face
 from .model import DetectorSpec
+from .ranges import MAX_PIXELS
 from .reader import Table
 from .sources import check_in_plane, frame_axis
 
@@ -53,6 +54,10 @@ def _pixels(t: Table, default):
             or not all(isinstance(v, int) and not isinstance(v, bool) and 1 <= v <= 100_000
                        for v in value)):
         t.error("pixels", f"expected two integers [nx, ny] between 1 and 100000, got {value!r}")
+        return None
+    if value[0] * value[1] > MAX_PIXELS:
+        t.error("pixels", f"expected at most {MAX_PIXELS} pixels in all (nx * ny; each map of a "
+                          f"detector holds several values per pixel), got {value[0]} x {value[1]}")
         return None
     return (int(value[0]), int(value[1]))
 

@@ -86,7 +86,7 @@ def read_gaps(tables: dict[str, Table], build: Build, *, mated, finding) -> dict
     """Declared, mated and (optionally) automatic gaps by name."""
     gaps: dict[str, GapSpec] = {}
     pairs: dict[frozenset, str] = {}
-    build.gap_keys = set(tables) | {req.gap_name for req in mated}
+    build.gap_keys = set(tables) | {req.gap_name for req in mated} | build.mate_gap_keys
 
     def add(spec: GapSpec, key: str) -> None:
         pair = frozenset({(spec.solid_a, spec.face_a), (spec.solid_b, spec.face_b)})

@@ -30,13 +30,27 @@ TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "see
                   "detectors", "requirements", "tolerances")
 
 
-def load(path: str | os.PathLike) -> Scene:
+#: Environment variable that lets scenes read mesh files outside their folder tree
+#: (set by ``tracer --allow-outside-files``; inherited by sweep workers).
+ALLOW_OUTSIDE_ENV = "TRACER_ALLOW_OUTSIDE_FILES"
+
+
+def _allow_outside(value) -> bool:
+    if value is not None:
+        return bool(value)
+    return os.environ.get(ALLOW_OUTSIDE_ENV, "").strip().lower() in ("1", "true", "yes", "on")
+
+
+def load(path: str | os.PathLike, *, allow_outside_files: bool | None = None) -> Scene:
     """Load and validate a scene file.
 
     Parameters
     ----------
     path : str or path-like
         A ``.toml`` scene file; relative mesh paths inside it are taken from its directory.
+    allow_outside_files : bool, optional
+        Read mesh files outside the scene file's folder tree (default: no, unless the
+        environment variable ``TRACER_ALLOW_OUTSIDE_FILES`` is 1).
 
     Raises
     ------
@@ -48,11 +62,12 @@ def load(path: str | os.PathLike) -> Scene:
         text = Path(file).read_bytes()
     except OSError as exc:
         raise SceneError([Problem(file, "", f"cannot read the file: {exc.strerror or exc}")]) from None
-    return loads(text, path=file)
+    return loads(text, path=file, allow_outside_files=allow_outside_files)
 
 
 def loads(text: str | bytes, *, path: str | os.PathLike | None = None,
-          base_dir: str | os.PathLike | None = None) -> Scene:
+          base_dir: str | os.PathLike | None = None,
+          allow_outside_files: bool | None = None) -> Scene:
     """Load a scene from TOML text.
 
     Parameters
@@ -68,10 +83,12 @@ def loads(text: str | bytes, *, path: str | os.PathLike | None = None,
     """
     file = os.fspath(path) if path is not None else None
     document = parse_text(text, file=file)
-    return from_dict(document, path=file, base_dir=base_dir)
+    return from_dict(document, path=file, base_dir=base_dir,
+                     allow_outside_files=allow_outside_files)
 
 
-def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scene:
+def from_dict(document: dict, *, path: str | None = None, base_dir=None,
+              allow_outside_files: bool | None = None) -> Scene:
     """Validate an already parsed document (a dict as :mod:`tomllib` gives)."""
     file = os.fspath(path) if path is not None else None
     problems = Problems(file)
@@ -82,7 +99,8 @@ def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scen
     if base_dir is None:
         base_dir = Path(file).resolve().parent if file else Path.cwd()
     try:
-        scene = _build(document, problems, file, Path(base_dir))
+        scene = _build(document, problems, file, Path(base_dir),
+                       _allow_outside(allow_outside_files))
     except SceneError:
         raise
     except RecursionError:  # absurdly nested input
@@ -96,7 +114,8 @@ def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scen
     return scene
 
 
-def _build(document: dict, problems: Problems, file: str | None, base_dir: Path):
+def _build(document: dict, problems: Problems, file: str | None, base_dir: Path,
+           allow_outside_files: bool = False):
     from . import settings
     doc = Table(document, "", problems)
 
@@ -116,7 +135,8 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
     header = settings.read_header(doc, default_title=default_title)
     su = SceneUnits(header.length_unit)
     doc.units = su
-    build = Build(problems=problems, units=su, dimension=header.dimension, base_dir=base_dir)
+    build = Build(problems=problems, units=su, dimension=header.dimension, base_dir=base_dir,
+                  allow_outside_files=allow_outside_files)
 
     spectrum_t = doc.table("spectrum", required=True)
     build.spectrum = settings.read_spectrum(spectrum_t) if spectrum_t is not None else None

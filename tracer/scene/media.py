@@ -17,9 +17,13 @@ indices, e.g. from a permittivity; :mod:`tracer.materials.basis`).
 from __future__ import annotations
 
 
+import numpy as np
+
+from .. import units
 from ..errors import TracerError
 from .context import Build
 from .problems import did_you_mean
+from .ranges import INDEX_IMAG, INDEX_REAL, LOSS_TANGENT, check_index
 from .reader import Table
 
 __all__ = ["read_material", "resolve_material", "MATERIAL_MODELS", "check_range"]
@@ -50,9 +54,12 @@ def read_material(name: str, t: Table, build: Build):
     out = None
     try:
         if model == "constant":
-            n = t.number("n", required=True, minimum=0.0, exclusive_minimum=True)
-            k = t.number("k", minimum=0.0)
-            tan_d = t.number("loss_tangent", minimum=0.0)
+            n = t.number("n", required=True, minimum=INDEX_REAL[0], maximum=INDEX_REAL[1],
+                         what="a refractive index (real part)")
+            k = t.number("k", minimum=INDEX_IMAG[0], maximum=INDEX_IMAG[1],
+                         what="an extinction coefficient")
+            tan_d = t.number("loss_tangent", minimum=LOSS_TANGENT[0], maximum=LOSS_TANGENT[1],
+                             what="a loss tangent")
             if k is not None and tan_d is not None:
                 t.error("loss_tangent", 'give either "k" or "loss_tangent", not both')
             elif n is not None and not bad_range:
@@ -62,17 +69,19 @@ def read_material(name: str, t: Table, build: Build):
                 else:
                     out = mats.ConstantIndex(complex(n, k or 0.0), **kwargs, **rng)
         elif model == "cauchy":
-            a = t.number("A", required=True, minimum=0.0, exclusive_minimum=True)
-            b = t.number("B", default=0.0)
-            c = t.number("C", default=0.0)
-            k = t.number("k", default=0.0, minimum=0.0)
+            a = t.number("A", required=True, minimum=INDEX_REAL[0], maximum=INDEX_REAL[1],
+                         what="a refractive index (real part)")
+            b = t.number("B", default=0.0, minimum=-1e6, maximum=1e6)
+            c = t.number("C", default=0.0, minimum=-1e6, maximum=1e6)
+            k = t.number("k", default=0.0, minimum=INDEX_IMAG[0], maximum=INDEX_IMAG[1],
+                         what="an extinction coefficient")
             if None not in (a, b, c, k) and not bad_range:
                 rng = {"valid_range": tuple(vr)} if vr is not None else {}
                 out = mats.Cauchy(a, b, c, kappa=k, **kwargs, **rng)
         elif model == "sellmeier":
             b = t.numbers("B", required=True)
             c = t.numbers("C", required=True, minimum=0.0)
-            a = t.number("A", default=1.0, minimum=0.0)
+            a = t.number("A", default=1.0, minimum=0.0, maximum=INDEX_REAL[1] ** 2)
             if vr is None and not bad_range:
                 t.error(None, 'missing key "valid_range": a Sellmeier fit needs the wavelengths it '
                               'was made for, e.g. valid_range = ["400 nm", "1000 nm"]')
@@ -92,8 +101,12 @@ def read_material(name: str, t: Table, build: Build):
                     t.error(None, f"expected n (and k) with one value per wavelength ({wl.size})")
                 elif wl.size < 2 or not all(wl[1:] > wl[:-1]):
                     t.error("wavelengths", "expected at least two wavelengths in increasing order")
-                elif not all(n > 0):
-                    t.error("n", "expected positive indices")
+                elif not all((n >= INDEX_REAL[0]) & (n <= INDEX_REAL[1])):
+                    t.error("n", f"expected every index between {INDEX_REAL[0]:g} and "
+                                 f"{INDEX_REAL[1]:g}, got {n.tolist()}")
+                elif k is not None and not all(k <= INDEX_IMAG[1]):
+                    t.error("k", f"expected every extinction coefficient at most {INDEX_IMAG[1]:g}, "
+                                 f"got {k.tolist()}")
                 else:
                     out = mats.Tabulated(wl, n, k, **kwargs)
         elif model == "glass-code":
@@ -162,8 +175,17 @@ def check_range(build: Build, key: str, model, name: str, wavelengths) -> None:
     if model is None or wavelengths is None or len(wavelengths) == 0:
         return
     try:
-        model.refractive_index(wavelengths)
+        values = np.asarray(model.refractive_index(wavelengths), dtype=complex).ravel()
     except TracerError as exc:
         build.problems.error(key, f'material "{name}": {exc}')
+        return
     except Exception as exc:  # a broken model must not crash loading
         build.problems.error(key, f'material "{name}" cannot be evaluated: {exc}')
+        return
+    wl = np.broadcast_to(np.asarray(wavelengths, dtype=float), values.shape)
+    for w, n in zip(wl, values):
+        bad = check_index(complex(n))
+        if bad is not None:
+            build.problems.error(key, f'material "{name}" at {units.format_quantity(float(w), "wavelength")}: '
+                                      f"{bad}")
+            return

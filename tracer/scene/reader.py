@@ -29,6 +29,7 @@ import numpy as np
 
 from ..errors import TracerError
 from .problems import Problems, describe_value, did_you_mean
+from .ranges import check_quantity
 
 __all__ = ["Table", "join"]
 
@@ -52,6 +53,11 @@ def _is_number(value) -> bool:
 
 
 _UNSET = object()
+
+
+def _shown(value) -> str:
+    """A quantity as the file wrote it: ``"-2 um"`` or ``-2``."""
+    return f'"{value}"' if isinstance(value, str) else repr(value)
 
 
 def _is_zero(default) -> bool:
@@ -246,18 +252,31 @@ class Table:
         present, value = self._fetch(name, required, expected, "number", default)
         if not present:
             return default
-        if (not isinstance(value, list) or not all(_is_number(v) for v in value)
-                or (length is not None and len(value) != length) or (nonempty and not value)):
+        if (not isinstance(value, list) or (length is not None and len(value) != length)
+                or (nonempty and not value)):
             self._bad(name, expected, value)
             return None
-        arr = np.asarray(value, dtype=float)
-        if not np.all(np.isfinite(arr)):
-            self._bad(name, "finite numbers", value)
+        if self._bad_items(name, value):
             return None
+        arr = np.asarray(value, dtype=float)
         if minimum is not None and np.any(arr < minimum):
             self.error(name, f"expected every item >= {minimum:g}, got {value}")
             return None
         return arr
+
+    def _bad_items(self, name: str, value: list, *, largest: float = 1e300) -> bool:
+        """Record a problem for every item of ``value`` that is not a finite number of
+        magnitude at most ``largest`` (each named ``name[i]``); whether there was one."""
+        bad = False
+        for i, v in enumerate(value):
+            if not _is_number(v) or not math.isfinite(v):
+                self.error(f"{name}[{i}]", f"expected a finite number, got {describe_value(v)}")
+                bad = True
+            elif abs(v) > largest:
+                self.error(f"{name}[{i}]", f"expected a number of magnitude at most {largest:g}, "
+                                           f"got {describe_value(v)}")
+                bad = True
+        return bad
 
     def strings(self, name: str, *, required: bool = False, default=None, nonempty: bool = True):
         """An array of strings (a single string is accepted as one item)."""
@@ -331,11 +350,14 @@ class Table:
         if not math.isfinite(si):
             self.error(label, f"expected a finite {kind}, got {describe_value(value)}")
             return None
-        if positive and si <= 0:
-            self.error(label, f"expected a positive {kind}, got {describe_value(value)}")
+        if (positive and si <= 0) or (nonnegative and si < 0):
+            sign = "negative" if si < 0 else "zero"
+            want = "positive" if positive else "non-negative"
+            self.error(label, f"expected a {want} {kind}, got a {sign} {kind} ({_shown(value)})")
             return None
-        if nonnegative and si < 0:
-            self.error(label, f"expected a non-negative {kind}, got {describe_value(value)}")
+        out_of_range = check_quantity(kind, si, zero_allowed=not positive)
+        if out_of_range is not None:
+            self.error(label, f"{out_of_range} (from {_shown(value)})")
             return None
         if maximum is not None and si > maximum:
             self.error(label, f"expected a {kind} of at most {self.units.show(kind, maximum)}, "
@@ -378,9 +400,10 @@ class Table:
             present, value = self._fetch(name, required, expected, "number", default)
             if not present:
                 return default
-            if (not isinstance(value, list) or len(value) not in sizes
-                    or not all(_is_number(v) and math.isfinite(v) for v in value)):
+            if not isinstance(value, list) or len(value) not in sizes:
                 self._bad(name, expected, value)
+                return None
+            if self._bad_items(name, value):
                 return None
             vec = np.asarray(value, dtype=float)
         else:

@@ -12,6 +12,7 @@ from ..errors import TracerError
 from .model import Spectrum, TraceSettings
 from .problems import describe_value
 from .quantities import LENGTH_UNITS
+from .ranges import threshold_problem
 from .reader import Table
 
 __all__ = ["Header", "read_header", "read_spectrum", "read_trace", "GapFinding",
@@ -87,13 +88,15 @@ def read_trace(t: Table | None) -> tuple[TraceSettings, tuple[str, ...] | None]:
         return TraceSettings(auto_threshold=True), None
     mode = t.string("mode", default="tree", choices=TRACE_MODES)
     raw = t.raw("power_threshold")
+    t._asked("power_threshold", "number", 1e-6)  # a number, or "auto"
     auto = raw is None or (isinstance(raw, str) and raw.strip().lower() == "auto")
     threshold = None
-    if isinstance(raw, str) and not auto:
-        t.error("power_threshold", f'expected "auto" or a fraction in [0, 1) such as 1e-6, got '
-                                   f"{describe_value(raw)}")
-    elif not auto:
-        threshold = t.number("power_threshold", minimum=0.0, maximum=1.0)
+    if not auto:
+        problem = threshold_problem(raw)
+        if problem is not None:
+            t.error("power_threshold", f"{problem}, got {describe_value(raw)}")
+        else:
+            threshold = float(raw)
     cost = t.number("auto_cost", default=tolerances.AUTO_THRESHOLD_COST, minimum=1.0)
     if t.has("auto_cost") and not auto:
         t.note("auto_cost", 'only used with power_threshold = "auto"')

@@ -10,6 +10,7 @@ is required, and its default.
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import numpy as np
@@ -88,7 +89,16 @@ def read_shape(kind: str, t: Table, build: Build):
         if kind in kinds:
             return _catalog(kind, kinds[kind], t, build)
     except TracerError as exc:
-        t.error(None, str(exc))
+        message = str(exc)
+        prefix = f"{t.key}: "
+        while message.startswith(prefix):  # the geometry names the table too: say it once
+            message = message[len(prefix):]
+        t.error(None, message)
+        return None
+    except ImportError as exc:
+        package = (exc.name or "trimesh").split(".")[0]
+        t.error(None, f"building this solid needs the optional package {package!r}, which is not "
+                      f"installed: pip install {package}")
         return None
     except (ValueError, TypeError, ArithmeticError, IndexError, KeyError) as exc:
         t.error(None, f"could not build the solid: {exc}")
@@ -226,13 +236,33 @@ def _mesh(t: Table, build: Build):
             labels[key] = ids
     if path is None or unit_name is None or not ok:
         return None
+    base = Path(build.base_dir or Path.cwd())
     file = Path(path)
     if not file.is_absolute():
-        file = (build.base_dir or Path.cwd()) / file
-    if not file.is_file():
-        t.error("path", f'mesh file not found: "{path}" (looked for {file}; relative paths are '
-                        "taken from the scene file's directory)")
+        file = base / file
+    try:
+        file = file.resolve()
+        inside = file.is_relative_to(base.resolve())
+    except (OSError, RuntimeError, ValueError):
+        inside, file = False, Path(path)
+    if not inside and not build.allow_outside_files:
+        t.error("path", f'mesh file "{path}" is outside the scene file\'s folder {base} (relative '
+                        "paths are taken from that folder; files elsewhere are read only with "
+                        "tracer --allow-outside-files or TRACER_ALLOW_OUTSIDE_FILES=1)")
+        return None
+    unreadable = (f'mesh file "{path}" is missing or unreadable (relative paths are taken from the '
+                  "scene file's folder; expected a closed triangle mesh such as STL, OBJ or PLY)")
+    if not file.is_file() or not os.access(file, os.R_OK):
+        t.error("path", unreadable)
         return None
     from .. import units
+    from ..geometry.errors import GeometryError
     scale = units.parse(f"1 {unit_name}", "length", None)
-    return load_mesh(file, unit=scale, labels=labels or None, where=t.key)
+    try:
+        return load_mesh(file, unit=scale, labels=labels or None, where=t.key)
+    except GeometryError as exc:
+        message = str(exc)
+        if "could not read" in message or "not found" in message or "no triangles" in message:
+            t.error("path", unreadable)
+            return None
+        raise

@@ -83,6 +83,10 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
             t.known(*t.data)
         mate_t = t.table("mate")
         if mate_t is not None:
+            # the gap this mate declares exists for references even if the mate is broken
+            # (its own problem is reported; a requirement naming it must not add another)
+            gap_raw = mate_t.data.get("gap_name")
+            build.mate_gap_keys.add(gap_raw if isinstance(gap_raw, str) else f"{name}.mate")
             for bad in ("position", "rotation", "pivot"):
                 t.known(bad)
                 if bad in t.data:

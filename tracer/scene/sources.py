@@ -21,6 +21,7 @@ import numpy as np
 from .. import tolerances, units
 from .context import Build
 from .model import Polarization, SourceSpec
+from .ranges import MAX_RAYS
 from .reader import Table
 from .settings import read_spectrum
 
@@ -168,8 +169,8 @@ def read_source(name: str, t: Table, build: Build) -> SourceSpec | None:
     x_axis = frame_axis(t, "x_axis", direction, build, default=x_default,
                         what="direction" if aim is None else "the aimed direction")
     check_in_plane(t, "x_axis", x_axis, build)
-    power = t.quantity("power", "power", required=True, nonnegative=True)
-    rays = t.integer("rays", default=100, minimum=1, maximum=100_000_000)
+    power = t.quantity("power", "power", required=True, positive=True)
+    rays = t.integer("rays", default=100, minimum=1, maximum=MAX_RAYS)
     sampling = t.string("sampling", default="grid", choices=("grid", "random"))
     polarization = read_polarization(t.table("polarization"))
 
