@@ -27,7 +27,7 @@ INTERNAL_ERROR = "internal error while loading the scene"
 #: Every top-level key and table of format 1.
 TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum",
                   "trace", "gap_finding", "materials", "coatings", "solids", "gaps", "sources",
-                  "detectors", "requirements", "tolerances")
+                  "detectors", "requirements", "tolerances", "include", "baseline")
 
 
 def load(path: str | os.PathLike) -> Scene:
@@ -78,7 +78,8 @@ def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scen
     if not isinstance(document, dict):
         problems.error("", "expected a TOML document (a table at the top level)")
         problems.raise_if_any()
-    document = copy.deepcopy(document)
+    from ..versions.includes import resolve_includes  # shared tables of other files
+    document = copy.deepcopy(resolve_includes(document, file=file, base_dir=base_dir))
     if base_dir is None:
         base_dir = Path(file).resolve().parent if file else Path.cwd()
     try:
@@ -181,6 +182,8 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
     # -- tolerances: checked (key paths into everything read above), not traced
     from .tolerance_tables import read_tolerance_tables
     read_tolerance_tables(doc.tables("tolerances"), build, document)
+    from ..versions.baseline import read_baseline_table  # [baseline]: checked, used by baselines
+    read_baseline_table(doc.table("baseline"))
     doc.finish()
 
     # -- cross checks: design path, material ranges, sources inside solids, overlaps
