@@ -232,7 +232,7 @@ class Moved:
     absolute: float = 0.0
 
     def describe(self) -> str:
-        unit = " W" if self.key.endswith("_w") else ""
+        unit = " W" if is_power(self.key) else ""
         if isinstance(self.old, str) or isinstance(self.new, str):
             return f"{self.key}: {self.old if self.old is not None else '(absent)'} -> " \
                    f"{self.new if self.new is not None else '(absent)'}"
@@ -283,6 +283,12 @@ class BaselineCheck:
         return dict(file=self.file, passed=self.passed, compared=self.compared,
                     moved=[m.to_dict() for m in self.moved], unrecorded=self.unrecorded,
                     settings=self.settings)
+
+
+def is_power(key: str) -> bool:
+    """Whether a quantity is a power [W] (``_w`` keys and the ledger's per-name accounts)."""
+    return key.endswith("_w") or key.startswith(("ledger.detectors.", "ledger.absorbed_faces.",
+                                                 "ledger.absorbed_bulk.", "ledger.escaped_faces."))
 
 
 def _is_path(key: str) -> bool:
