@@ -60,6 +60,10 @@ class Verdict:
                     value=finite_or_none(self.value), limit=float(self.limit), unit=self.unit,
                     comparison=self.comparison)
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import verdicts_html
+        return verdicts_html([self])
+
     def describe(self) -> str:
         """One line, e.g. ``enough: power on camera 9.2e-04 W >= 5.0e-04 W: pass``."""
         what = {"min_power": f"power on {self.subject}",

@@ -39,6 +39,10 @@ class RunAnalysis:
     def passed(self) -> bool:
         return all(v.passed for v in self.verdicts)
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import analysis_html
+        return analysis_html(self)
+
 
 def analyse(result) -> RunAnalysis:
     """Budget, ghost table of every detector and requirement verdicts of a trace.
