@@ -118,3 +118,14 @@ def test_bad_baseline_table_and_file_are_input_errors(scene, tmp_path, capsys):
     ok.write_text(PLATE.read_text())
     assert main(["run", str(ok), "--rays", "4", "--baseline", str(bad), "-q"]) == 2
     assert "bad.toml: values: expected a [values] table" in capsys.readouterr().err
+
+
+def test_shipped_demo_baseline_still_holds(capsys):
+    """The committed baselines/plate_ghost.toml is the check a repository runs in CI.
+
+    When a deliberate change of the engine moves these results, rewrite it with
+    ``tracer run scenes/plate_ghost.toml --save-baseline baselines/plate_ghost.toml``.
+    """
+    root = PLATE.parent.parent
+    rc = main(["run", str(PLATE), "--baseline", str(root / "baselines" / "plate_ghost.toml"), "-q"])
+    assert rc == 0, capsys.readouterr().out

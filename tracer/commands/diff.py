@@ -28,7 +28,7 @@ DESCRIPTION = __doc__.replace("``", "")
 EXAMPLES = """examples:
   tracer diff HEAD~1:scenes/plate_ghost.toml scenes/plate_ghost.toml
   tracer diff main:scenes/tir_prism_pair.toml scenes/tir_prism_pair.toml --rays 50 --html diff.html
-  tracer diff old.toml new.toml --scene-only
+  tracer diff scenes/plate_ghost.toml scenes/penta_prism_laser.toml --scene-only
   tracer diff v1.0:scenes/penta_prism_laser.toml HEAD:scenes/penta_prism_laser.toml --json diff.json
 
 exit codes: 0 no verdict got worse, 1 a requirement verdict got worse, 2 input error

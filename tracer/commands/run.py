@@ -33,8 +33,8 @@ EXAMPLES = """examples:
   tracer run scenes/tir_prism_pair.toml --rays 200 --out results/tir
   tracer run scenes/cube_beamsplitter_camera.toml --threshold 1e-8 --json cube.json --quiet
   tracer run scenes/penta_prism_laser.toml --top 5 --seed 7
-  tracer run scenes/plate_ghost.toml --save-baseline scenes/plate_ghost.baseline.toml
-  tracer run scenes/plate_ghost.toml --baseline scenes/plate_ghost.baseline.toml --quiet
+  tracer run scenes/plate_ghost.toml --save-baseline baselines/plate_ghost.toml
+  tracer run scenes/plate_ghost.toml --baseline baselines/plate_ghost.toml --quiet
 
 exit codes: 0 success, 1 a requirement failed or a baseline quantity moved, 2 input error
 """

@@ -38,7 +38,7 @@ def baseline_step(args, scene, analysis, written: list) -> bool:
             print()
             print(result.format_text())
     if save:
-        output_file(save, "--save-baseline", example="scene.baseline.toml")
+        output_file(save, "--save-baseline", example="baselines/scene.toml")
         written.append(str(b.save_baseline(summary, save, scene=args.scene,
                                            top_paths=tol.top_paths)))
     return ok
