@@ -216,17 +216,24 @@ class ResultDiff:
 
 
 def _moved(a: AccountChange, source_w: float) -> bool:
+    """Changed by more than summation round-off (:data:`ACCOUNT_RTOL` of the source power
+    for powers; of the value, and at least that much absolutely, for fractions)."""
     if a.old is None or a.new is None:
         return a.old != a.new
-    scale = source_w if a.key.endswith("_w") and source_w > 0 else max(abs(a.old), abs(a.new))
-    return abs(a.new - a.old) > ACCOUNT_RTOL * scale
+    from .baseline import is_power
+
+    if is_power(a.key) and source_w > 0:
+        return abs(a.new - a.old) > ACCOUNT_RTOL * source_w
+    return abs(a.new - a.old) > ACCOUNT_RTOL * max(abs(a.old), abs(a.new), 1.0)
 
 
 def _num(v, key: str, *, sign: bool = False) -> str:
+    from .baseline import is_power
+
     if v is None:
         return "n/a"
     text = f"{v:+.4g}" if sign else f"{v:.4g}"
-    return text + (" W" if key.endswith("_w") else "")
+    return text + (" W" if is_power(key) else "")
 
 
 def diff_summaries(old: dict, new: dict, *, old_name: str = "old", new_name: str = "new") -> ResultDiff:
