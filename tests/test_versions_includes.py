@@ -118,3 +118,15 @@ def test_check_command_reports_include_problem_exit_2(tmp_path, capsys):
     f = _scene_with_include(root, '["../../x.toml"]')
     assert main(["check", str(f)]) == 2
     assert "outside the repository tree" in capsys.readouterr().err
+
+
+def test_problem_inside_an_included_entry_names_the_included_file(tmp_path):
+    root = _repo(tmp_path)
+    (root / "shared" / "glass.toml").write_text('[materials.crown]\nmodel = "glass-code"\ncode = "51764"\n')
+    f = _scene_with_include(root, '["../shared/glass.toml"]')
+    with pytest.raises(SceneError) as exc:
+        tracer.load(f)
+    (p,) = [p for p in exc.value.problems if p.key.startswith("materials.crown")]
+    assert p.file.endswith("glass.toml") and p.key == "materials.crown.code"
+    (root / "shared" / "glass.toml").write_text('[materials.crown]\nmodel = "glass-code"\ncode = "517642"\n')
+    assert type(tracer.load(f).raw) is dict  # Scene.raw stays a plain document

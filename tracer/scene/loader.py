@@ -73,13 +73,22 @@ def loads(text: str | bytes, *, path: str | os.PathLike | None = None,
 
 def from_dict(document: dict, *, path: str | None = None, base_dir=None) -> Scene:
     """Validate an already parsed document (a dict as :mod:`tomllib` gives)."""
+    from ..versions.includes import relocate, resolve_includes  # shared tables of other files
     file = os.fspath(path) if path is not None else None
+    if isinstance(document, dict):
+        document = resolve_includes(document, file=file, base_dir=base_dir)
+    try:
+        return _from_dict(document, file=file, base_dir=base_dir)
+    except SceneError as exc:  # problems inside included entries name their own file
+        raise relocate(exc, document) from None
+
+
+def _from_dict(document, *, file, base_dir) -> Scene:
     problems = Problems(file)
     if not isinstance(document, dict):
         problems.error("", "expected a TOML document (a table at the top level)")
         problems.raise_if_any()
-    from ..versions.includes import resolve_includes  # shared tables of other files
-    document = copy.deepcopy(resolve_includes(document, file=file, base_dir=base_dir))
+    document = copy.deepcopy(dict(document))  # a plain dict (not IncludedDocument) in Scene.raw
     if base_dir is None:
         base_dir = Path(file).resolve().parent if file else Path.cwd()
     try:

@@ -27,10 +27,41 @@ from typing import Callable
 from ..scene.problems import Problem, SceneError
 from ..scene.toml_io import parse_text
 
-__all__ = ["INCLUDABLE_TABLES", "repository_root", "resolve_includes", "FileTree"]
+__all__ = ["INCLUDABLE_TABLES", "repository_root", "resolve_includes", "FileTree",
+           "IncludedDocument", "relocate"]
 
 #: The tables an included file may define.
 INCLUDABLE_TABLES = ("materials", "coatings", "solids")
+
+
+class IncludedDocument(dict):
+    """A merged document that remembers which file each included entry came from.
+
+    ``origins``: ``{"materials.crown": "shared/glasses.toml", ...}`` for the entries taken
+    from included files (deep copies keep it).
+    """
+
+    origins: dict
+
+    def __init__(self, *args, origins=None, **kw):
+        super().__init__(*args, **kw)
+        self.origins = dict(origins or {})
+
+
+def relocate(error: SceneError, document) -> SceneError:
+    """``error`` with every problem inside an included entry moved to the file it came from."""
+    origins = getattr(document, "origins", None)
+    if not origins:
+        return error
+    out = []
+    for p in error.problems:
+        file = p.file
+        for prefix, where in origins.items():
+            if p.key == prefix or p.key.startswith(prefix + ".") or p.key.startswith(prefix + "["):
+                file = where
+                break
+        out.append(Problem(file, p.key, p.message, p.line, p.column) if file != p.file else p)
+    return SceneError(out)
 
 
 def repository_root(folder: str | os.PathLike) -> Path:
@@ -115,7 +146,9 @@ def resolve_includes(document: dict, *, file: str | None = None, base_dir=None,
           origin=origin, chain=[name], problems=problems)
     if problems:
         raise SceneError(problems)
-    return merged
+    from ..scene.reader import join
+    return IncludedDocument(merged, origins={join(t, k): f for (t, k), f in origin.items()
+                                             if f != (display or "<scene>")})
 
 
 def _include_list(value, display, problems) -> list[str]:
