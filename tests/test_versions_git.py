@@ -145,3 +145,23 @@ def test_bad_revision_and_missing_path_are_input_errors(repo, capsys):
     assert "no such git revision" in capsys.readouterr().err
     assert main(["diff", "HEAD:scenes/none.toml", "scenes/plate.toml", "--scene-only"]) == 2
     assert "HEAD:scenes/none.toml" in capsys.readouterr().err
+
+
+def test_design_path_ratio_matches_normal_incidence_fresnel(repo):
+    """The diff's power ratio of the direct path equals (1 - R_new)^2 / (1 - R_old)^2 with
+    R = ((n - 1)/(n + 1))^2 at normal incidence (Fresnel; Hecht, Optics, 5th ed. 2017,
+    Eq. 4.47, from memory), n relative to the ambient air."""
+    _edit(repo, '"517642"', '"720290"', file="shared/glass.toml")
+    d = diff("HEAD:scenes/plate.toml", "scenes/plate.toml", rays=5)
+
+    def transmission(scene):
+        wl = 550e-9
+        n = (scene.solids["plate"].material.refractive_index(wl)
+             / scene.ambient.refractive_index(wl)).real
+        r = ((n - 1) / (n + 1)) ** 2
+        return (1 - r) ** 2
+
+    expected = transmission(d.new_scene) / transmission(d.old_scene)
+    design = next(p for p in d.results.paths if p.signature.endswith("plate.back:T > screen")
+                  and ":R" not in p.signature)
+    assert design.ratio == pytest.approx(expected, rel=1e-12)
