@@ -92,5 +92,5 @@ def draw_overlay(old_scene, old_result, new_scene, new_result, *, ax=None,
                    Line2D([], [], color=NEW_COLOR, lw=1.6, label=str(labels[1]))]
         ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=2)
         if title:
-            ax.set_title(f"{labels[0]} vs {labels[1]}" if title is True else str(title))
+            ax.set_title("ray diagrams overlaid" if title is True else str(title))
     return fig

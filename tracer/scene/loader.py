@@ -193,6 +193,7 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path)
     read_tolerance_tables(doc.tables("tolerances"), build, document)
     from ..versions.baseline import read_baseline_table  # [baseline]: checked, used by baselines
     read_baseline_table(doc.table("baseline"))
+    doc.known("include")  # merged (and removed) before validation; known for "did you mean"
     doc.finish()
 
     # -- cross checks: design path, material ranges, sources inside solids, overlaps
