@@ -31,6 +31,7 @@ COMMAND_MODULES = (
     "tracer.commands.report",
     "tracer.commands.sweep",
     "tracer.commands.tolerance",
+    "tracer.commands.diff",
 )
 
 EXIT_OK, EXIT_REQUIREMENT_FAILED, EXIT_INPUT_ERROR = 0, 1, 2

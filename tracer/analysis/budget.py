@@ -95,6 +95,10 @@ class PowerBudget:
         """``|residual| / source power`` [1]."""
         return abs(self.residual_w) / self.source_power_w if self.source_power_w else 0.0
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import budget_html
+        return budget_html(self)
+
     def category_total(self, category: str) -> float:
         """Sum of the rows of one category [W]."""
         return float(sum(r.power_w for r in self.rows if r.category == category))

@@ -165,6 +165,10 @@ class GhostTable:
     rows: list = field(default_factory=list)
     hits_dropped: int = 0
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import ghost_table_html
+        return ghost_table_html(self)
+
     @property
     def design(self) -> GhostRow | None:
         """The design-path row, or ``None``."""

@@ -163,6 +163,10 @@ class Verdict:
                     bound=finite_or_none(self.bound), lower=finite_or_none(self.lower),
                     upper=finite_or_none(self.upper), untraced_w=float(self.untraced_w))
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import verdicts_html
+        return verdicts_html([self])
+
     def describe(self) -> str:
         """One line, e.g. ``enough: power on camera 9.2e-04 W >= 5.0e-04 W: pass``."""
         what = _WHAT.get(self.kind, self.kind + " {}").format(self.subject)

@@ -57,6 +57,10 @@ class RunAnalysis:
         return (zero_power_warnings(self.result) + behind_warnings(self.result)
                 + (untraced_notes(self.result, unsure) if unsure else []))
 
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import analysis_html
+        return analysis_html(self)
+
 
 def analyse(result) -> RunAnalysis:
     """Budget, ghost table of every detector and requirement verdicts of a trace.

@@ -17,8 +17,13 @@ gone the worst way for it; otherwise it is inconclusive (the bound is shown, wit
 do). With power_threshold = "auto" (the default when the scene does not set it) the trace
 is repeated with lower thresholds until the verdicts are conclusive, within a cost limit.
 
-Exit code 1 when any requirement fails or is inconclusive (they are listed), 2 for an
-input error (every problem of the scene is printed), else 0.
+``--save-baseline FILE`` writes the results a repository commits beside the scene;
+``--baseline FILE`` compares with such a file and names every quantity that moved by
+more than its tolerance (docs/versions.md).
+
+Exit code 1 when any requirement fails or is inconclusive (they are listed) or a
+quantity moved beyond its baseline tolerance, 2 for an input error (every problem of
+the scene is printed), else 0.
 """
 
 from __future__ import annotations
@@ -35,8 +40,10 @@ EXAMPLES = """examples:
   tracer run scenes/tir_prism_pair.toml --rays 200 --out results/tir
   tracer run scenes/cube_beamsplitter_camera.toml --threshold 1e-8 --json cube.json --quiet
   tracer run scenes/penta_prism_laser.toml --top 5 --seed 7
+  tracer run scenes/plate_ghost.toml --save-baseline baselines/plate_ghost.toml
+  tracer run scenes/plate_ghost.toml --baseline baselines/plate_ghost.toml --quiet
 
-exit codes: 0 success, 1 a requirement failed or is inconclusive, 2 input error
+exit codes: 0 success, 1 a requirement failed or is inconclusive, or a baseline quantity moved, 2 input error
 """
 
 
@@ -49,6 +56,8 @@ def add_arguments(parser) -> None:
                              "files hold every path)")
     parser.add_argument("--no-figures", action="store_true",
                         help="with --out: write tables and JSON only")
+    from ..versions.cli_options import add_baseline_options
+    add_baseline_options(parser)
 
 
 def run(args) -> int:
@@ -120,10 +129,12 @@ def run(args) -> int:
                 written += [str(p) for p in figs]
                 for kind, why in skipped:
                     c.say(args, f"figure {kind} not drawn: {why}")
+    from ..versions.cli_options import baseline_step
+    baseline_ok = baseline_step(args, scene, analysis, written)
     if not args.quiet:
         if written:
             print()
             print("wrote " + ", ".join(written))
         print()
         print(c.CAUTION_LINE)
-    return 0 if analysis.passed else 1
+    return 0 if analysis.passed and baseline_ok else 1

@@ -67,6 +67,9 @@ def add_arguments(parser) -> None:
     add_parallel_options(parser)
     c.add_output_options(parser, json_help="write the JSON table to PATH")
     parser.add_argument("--no-figures", action="store_true", help="with --out: tables only")
+    parser.add_argument("--write-scenes", metavar="DIR",
+                        help="also write one scene file per point to DIR (comments and layout of "
+                             "the scene kept, only the swept values changed)")
 
 
 def add_parallel_options(parser) -> None:
@@ -223,4 +226,8 @@ def run(args) -> int:
             m.add(args.json)
             files = m.add(result.write(out, figures=not args.no_figures))
         c.say(args, "wrote " + ", ".join(str(f) for f in files))
+    if args.write_scenes:
+        from ..versions.edit import write_point_scenes
+        files = write_point_scenes(args.scene, result.points, c.out_dir(args.write_scenes))
+        c.say(args, f"wrote {len(files)} point scenes to {args.write_scenes}")
     return 0

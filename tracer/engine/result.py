@@ -73,6 +73,10 @@ class Result:
         self.threshold_choice = None
 
     # ------------------------------------------------------------------ basics
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import result_html
+        return result_html(self)
+
     @property
     def source_names(self) -> list[str]:
         return list(self.ledger.sources)

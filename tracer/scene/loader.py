@@ -27,7 +27,7 @@ INTERNAL_ERROR = "internal error while loading the scene"
 #: Every top-level key and table of format 1.
 TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum",
                   "trace", "gap_finding", "materials", "coatings", "solids", "gaps", "sources",
-                  "detectors", "requirements", "tolerances")
+                  "detectors", "requirements", "tolerances", "include", "baseline")
 
 
 #: Environment variable that lets scenes read mesh files outside their folder tree
@@ -90,12 +90,22 @@ def loads(text: str | bytes, *, path: str | os.PathLike | None = None,
 def from_dict(document: dict, *, path: str | None = None, base_dir=None,
               allow_outside_files: bool | None = None) -> Scene:
     """Validate an already parsed document (a dict as :mod:`tomllib` gives)."""
+    from ..versions.includes import relocate, resolve_includes  # shared tables of other files
     file = os.fspath(path) if path is not None else None
+    if isinstance(document, dict):
+        document = resolve_includes(document, file=file, base_dir=base_dir)
+    try:
+        return _from_dict(document, file=file, base_dir=base_dir)
+    except SceneError as exc:  # problems inside included entries name their own file
+        raise relocate(exc, document) from None
+
+
+def _from_dict(document, *, file, base_dir) -> Scene:
     problems = Problems(file)
     if not isinstance(document, dict):
         problems.error("", "expected a TOML document (a table at the top level)")
         problems.raise_if_any()
-    document = copy.deepcopy(document)
+    document = copy.deepcopy(dict(document))  # a plain dict (not IncludedDocument) in Scene.raw
     if base_dir is None:
         base_dir = Path(file).resolve().parent if file else Path.cwd()
     try:
@@ -201,6 +211,9 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path,
     # -- tolerances: checked (key paths into everything read above), not traced
     from .tolerance_tables import read_tolerance_tables
     read_tolerance_tables(doc.tables("tolerances"), build, document)
+    from ..versions.baseline import read_baseline_table  # [baseline]: checked, used by baselines
+    read_baseline_table(doc.table("baseline"))
+    doc.known("include")  # merged (and removed) before validation; known for "did you mean"
     doc.finish()
 
     # -- cross checks: design path, material ranges, sources inside solids, overlaps

@@ -350,3 +350,7 @@ class Scene:
     requirements: dict[str, RequirementSpec]
     notes: tuple[str, ...] = ()
     raw: dict | None = None  # the parsed TOML, for writing back
+
+    def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
+        from ..notebook import scene_html
+        return scene_html(self)
