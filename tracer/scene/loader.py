@@ -95,12 +95,13 @@ def from_dict(document: dict, *, path: str | None = None, base_dir=None,
     if isinstance(document, dict):
         document = resolve_includes(document, file=file, base_dir=base_dir)
     try:
-        return _from_dict(document, file=file, base_dir=base_dir)
+        return _from_dict(document, file=file, base_dir=base_dir,
+                          allow_outside_files=allow_outside_files)
     except SceneError as exc:  # problems inside included entries name their own file
         raise relocate(exc, document) from None
 
 
-def _from_dict(document, *, file, base_dir) -> Scene:
+def _from_dict(document, *, file, base_dir, allow_outside_files=None) -> Scene:
     problems = Problems(file)
     if not isinstance(document, dict):
         problems.error("", "expected a TOML document (a table at the top level)")
