@@ -76,3 +76,17 @@ def test_sweep_and_tolerance_refuse_what_would_not_fit(monkeypatch, capsys):
     assert main(["tolerance", coupler, "--trials", "5", "--workers", "1", "-q"]) == 2
     err = capsys.readouterr().err
     assert err.count("--allow-large") == 2 and "Traceback" not in err
+
+
+def test_estimate_of_an_automatic_threshold_is_its_first_trace():
+    # "auto" is estimated at the first threshold the automatic choice tries, and the
+    # message says the retraces may cost up to auto_cost times as much
+    from tracer import tolerances
+
+    scene = tracer.load(PLATE)
+    e = est.estimate(scene, power_threshold="auto")
+    first = tracer.trace(scene, power_threshold=tolerances.AUTO_THRESHOLD_START)
+    assert e.auto_cost == pytest.approx(tolerances.AUTO_THRESHOLD_COST)
+    assert e.events == pytest.approx(first.events, rel=0.05)
+    assert "up to 30 times" in e.text()
+    assert est.estimate(scene, power_threshold=1e-3).auto_cost is None

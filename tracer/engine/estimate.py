@@ -69,6 +69,10 @@ class Estimate:
         Expected peak memory.
     pilot_rays, pilot_events : int
         What the pilot traced.
+    auto_cost : float or None
+        With the automatic power threshold: the estimate is of the first trace (threshold
+        ``AUTO_THRESHOLD_START``) and the retraces may together cost up to this many times
+        its events (they stop there by themselves); None for a fixed threshold.
     """
 
     rays: int
@@ -77,13 +81,18 @@ class Estimate:
     memory: float
     pilot_rays: int
     pilot_events: int
+    auto_cost: float | None = None
 
     def text(self) -> str:
         """One line, for messages and ``--verbose`` output."""
         at_least = "at least " if self.events_lower_bound else ""
+        auto = ""
+        if self.auto_cost is not None:
+            auto = (f"; automatic threshold: this is the first trace, the retraces that make "
+                    f"the verdicts conclusive may cost up to {self.auto_cost:g} times as much")
         return (f"{self.rays} source rays, {at_least}{self.events:.3g} events, "
                 f"about {_gib(self.memory)} of memory (from a pilot of {self.pilot_rays} rays, "
-                f"{self.pilot_events} events)")
+                f"{self.pilot_events} events){auto}")
 
 
 class TooLarge(EngineError):
@@ -134,17 +143,19 @@ def estimate(scene, **settings) -> Estimate:
     from .api import _options, launch_counts
 
     settings = {k: v for k, v in settings.items() if k not in ("ray_range", "event_budget")}
+    settings, auto_cost = _first_auto_trace(scene, settings)
     opts = _options(scene, settings)
     counts = launch_counts(scene, opts.rays)
     rays = int(sum(counts.values()))
     if rays == 0:
-        return Estimate(0, 0.0, False, _BASE_BYTES, 0, 0)
+        return Estimate(0, 0.0, False, _BASE_BYTES, 0, 0, auto_cost)
     w = PILOT_RAYS
     first, ev1 = _pilot(scene, settings, w)
     pilot1 = int(sum(min(w, n) for n in counts.values()))
     if first is None:  # even the small pilot passed its budget
         per_ray = ev1 / max(pilot1, 1)
-        return Estimate(rays, per_ray * rays, True, _BASE_BYTES + ev1 * _NODE_BYTES, pilot1, ev1)
+        return Estimate(rays, per_ray * rays, True, _BASE_BYTES + ev1 * _NODE_BYTES, pilot1, ev1,
+                        auto_cost)
     second, ev2 = _pilot(scene, settings, 2 * w)
     pilot2 = int(sum(min(2 * w, n) for n in counts.values()))
     res = second if second is not None else first
@@ -163,7 +174,27 @@ def estimate(scene, **settings) -> Estimate:
     stack = min(depth, int(opts.max_events)) * min(int(opts.chunk), max(rays, 1)) * _RAY_BYTES
     memory = _BASE_BYTES + nodes * _NODE_BYTES + hits * _HIT_BYTES + stack
     lower = second is None
-    return Estimate(rays, events, lower, memory, pilot_rays, ev2 if second is not None else ev1)
+    return Estimate(rays, events, lower, memory, pilot_rays, ev2 if second is not None else ev1,
+                    auto_cost)
+
+
+def _first_auto_trace(scene, settings: dict) -> tuple[dict, float | None]:
+    """Settings of the first trace of an automatic-threshold run, and its cost factor.
+
+    The pilot traces a ray range, which never chooses the threshold by itself, so an
+    automatic threshold (``"auto"`` given, or unset with the scene's automatic default) is
+    replaced by the first threshold the automatic choice would try.
+    """
+    from .. import tolerances
+
+    thr = settings.get("power_threshold")
+    st = scene.settings
+    wants = (isinstance(thr, str) and thr.strip().lower() == "auto") or (
+        thr is None and getattr(st, "auto_threshold", False))
+    if not wants:
+        return settings, None
+    out = dict(settings, power_threshold=tolerances.AUTO_THRESHOLD_START)
+    return out, float(getattr(st, "auto_cost", tolerances.AUTO_THRESHOLD_COST))
 
 
 def check_fits(scene, *, allow_large: bool = False, memory_budget: float | None = None,

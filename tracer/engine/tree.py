@@ -321,7 +321,9 @@ class _Tracer:
             if not back.any():
                 continue
             rows = np.nonzero(back)[0]
-            s = (cs.det_position[d] @ nrm - b.origin[rows] @ nrm) / den[rows]
+            # a ray grazing the plane (den ~ 1e-300) overflows to inf: it never reaches it
+            with np.errstate(over="ignore"):
+                s = (cs.det_position[d] @ nrm - b.origin[rows] @ nrm) / den[rows]
             ok = (s > PLANE_EPS) & (s < t[rows])
             if not ok.any():
                 continue
