@@ -149,3 +149,20 @@ __all__ += ["AUTO_THRESHOLD_START", "AUTO_THRESHOLD_FLOOR", "AUTO_THRESHOLD_COST
 SENSITIVITY_MIN_SPREAD = 1e-9
 
 __all__ += ["SENSITIVITY_MIN_SPREAD"]
+
+#: Largest total integrated scatter (4 pi sigma n cos(theta) / lambda)^2 of a rough face that
+#: the first-order (smooth-surface) scatter theory is used for. Beyond about 0.1 the
+#: perturbation series no longer converges well (common practice, no source).
+SMOOTH_SURFACE_TIS_MAX = 0.1
+
+#: Largest hemispherical integral of a measured BSDF table above 1 accepted as round-off of
+#: the measurement before it is refused as creating energy [1].
+BSDF_ENERGY_TOL = 1e-3
+
+#: Relative difference between BSDF(i -> s) and BSDF(s -> i) above which a measured table
+#: is reported as non-reciprocal (a warning; common practice, no source).
+BSDF_RECIPROCITY_RTOL = 0.1
+
+#: Number of standard errors a verdict keeps between a sampled value and its limit before
+#: it is conclusive (about 99.7 % two-sided for a normal estimate; common practice, no source).
+VERDICT_SIGMAS = 3.0
