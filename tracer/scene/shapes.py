@@ -10,14 +10,13 @@ is required, and its default.
 
 from __future__ import annotations
 
-import os
-from pathlib import Path
 
 import numpy as np
 
 from ..errors import TracerError
 from .context import Build
 from .problems import did_you_mean, describe_value
+from .files import resolve_scene_file
 from .reader import Table
 
 __all__ = ["read_shape", "CONSTRUCTIONS", "catalog_kinds", "rotation_matrix", "place",
@@ -236,25 +235,12 @@ def _mesh(t: Table, build: Build):
             labels[key] = ids
     if path is None or unit_name is None or not ok:
         return None
-    base = Path(build.base_dir or Path.cwd())
-    file = Path(path)
-    if not file.is_absolute():
-        file = base / file
-    try:
-        file = file.resolve()
-        inside = file.is_relative_to(base.resolve())
-    except (OSError, RuntimeError, ValueError):
-        inside, file = False, Path(path)
-    if not inside and not build.allow_outside_files:
-        t.error("path", f'mesh file "{path}" is outside the scene file\'s folder {base} (relative '
-                        "paths are taken from that folder; files elsewhere are read only with "
-                        "tracer --allow-outside-files or TRACER_ALLOW_OUTSIDE_FILES=1)")
+    expected = "a closed triangle mesh such as STL, OBJ or PLY"
+    file = resolve_scene_file(t, build, "path", path, what="mesh file", expected=expected)
+    if file is None:
         return None
     unreadable = (f'mesh file "{path}" is missing or unreadable (relative paths are taken from the '
-                  "scene file's folder; expected a closed triangle mesh such as STL, OBJ or PLY)")
-    if not file.is_file() or not os.access(file, os.R_OK):
-        t.error("path", unreadable)
-        return None
+                  f"scene file's folder; expected {expected})")
     from .. import units
     from ..geometry.errors import GeometryError
     scale = units.parse(f"1 {unit_name}", "length", None)
