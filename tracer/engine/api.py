@@ -29,6 +29,9 @@ SETTINGS = {
                     "(None: no limit)",
     "memory_budget": "stop with EventBudgetExceeded once the path tree and the active rays "
                      "would take more than this many bytes (None: no limit)",
+    "scatter_rays": "tree mode: directions sampled at a scatter event (default from the scene)",
+    "scatter_depth": "tree mode: scatter events per path that spawn scatter_rays directions",
+    "target_share": "share of the scatter directions aimed at the scatter targets [1]",
     "ray_range": "launch only source rays start <= j < stop: (start, stop) for every source, "
                  "or {source: (start, stop)} (sources not named launch none)",
 }
@@ -43,7 +46,8 @@ def _options(scene, settings) -> Options:
         raise EngineError(f"unknown trace setting {k!r}{hint}; known: {', '.join(SETTINGS)}")
     st = scene.settings
     o = Options(mode=st.mode, power_threshold=st.power_threshold, max_events=st.max_events,
-                seed=int(scene.seed))
+                seed=int(scene.seed), scatter_rays=st.scatter_rays, scatter_depth=st.scatter_depth,
+                target_share=st.target_share)
     for k, v in settings.items():
         if v is not None or k == "progress":
             setattr(o, k, v)

@@ -165,14 +165,18 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path,
     build.ambient_name = header.ambient
     build.ambient = resolve_material(build, "ambient", header.ambient)
 
-    from .treatments import BUILTIN_TREATMENTS, read_coating
+    from .treatments import BUILTIN_TREATMENTS, SCATTER_KINDS, read_coating
     coating_tables = doc.tables("coatings")
     for name in coating_tables:
         if name in BUILTIN_TREATMENTS:
             problems.error(f"coatings.{name}", f'"{name}" is a built-in treatment; choose another name')
     build.coating_keys = set(coating_tables) | set(BUILTIN_TREATMENTS)
     build.coatings = dict(BUILTIN_TREATMENTS)
-    for name, t in coating_tables.items():
+    # scatter treatments last: their "specular" may name any other coating
+    ordered = sorted(coating_tables.items(),
+                     key=lambda item: isinstance(item[1].data, dict)
+                     and item[1].data.get("kind") in SCATTER_KINDS)
+    for name, t in ordered:
         if name in BUILTIN_TREATMENTS:
             continue
         treatment = read_coating(name, t, build)

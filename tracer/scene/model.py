@@ -86,6 +86,17 @@ class TraceSettings:
     auto_cost : float [1]
         With ``auto_threshold``: the retraces stop once all traces together have cost this
         many times the events of the first trace.
+    scatter_rays : int
+        Tree mode: scatter directions sampled at a scatter event (each carried by a pair of
+        rays, one per polarisation, :mod:`tracer.scatter.fields`).
+    scatter_depth : int
+        Tree mode: scatter events on a path that spawn ``scatter_rays`` directions; later
+        scatter events on the same path spawn one (unbiased, cheaper).
+    scatter_targets : tuple of str or None
+        Detectors and ``solid.face`` faces the aimed share of the scatter directions aims
+        at; ``None``: every plane detector; ``()``: none.
+    target_share : float [1]
+        Share of the ``scatter_rays`` directions aimed at the targets (balance heuristic).
     """
 
     mode: Literal["tree", "monte-carlo"] = "tree"
@@ -94,6 +105,10 @@ class TraceSettings:
     sequence: tuple[str, ...] | None = None
     auto_threshold: bool = False
     auto_cost: float = 30.0
+    scatter_rays: int = 16
+    scatter_depth: int = 1
+    scatter_targets: tuple[str, ...] | None = None
+    target_share: float = 0.5
 
 
 @dataclass(frozen=True)
@@ -110,12 +125,16 @@ class FaceTreatment:
         there and its power is booked as absorbed on this face.
     coating_name
         Name of the coating in the scene file (for reports), or ``None``.
+    scatter
+        A scatter model (:mod:`tracer.scatter`) for the diffuse part of the face, or
+        ``None``; ``kind``, ``coating`` and ``reflectance`` then describe its specular part.
     """
 
     kind: TreatmentKind = "uncoated"
     coating: Any = None
     reflectance: float | None = None
     coating_name: str | None = None
+    scatter: Any = None
 
 
 @dataclass(frozen=True)

@@ -102,6 +102,10 @@ def read_trace(t: Table | None) -> tuple[TraceSettings, tuple[str, ...] | None]:
         t.note("auto_cost", 'only used with power_threshold = "auto"')
     max_events = t.integer("max_events", default=64, minimum=1, maximum=100_000)
     sequence = t.strings("sequence")
+    scatter_rays = t.integer("scatter_rays", default=16, minimum=1, maximum=10_000)
+    scatter_depth = t.integer("scatter_depth", default=1, minimum=0, maximum=16)
+    targets = t.strings("scatter_targets", nonempty=False) if t.has("scatter_targets") else None
+    share = t.quantity("target_share", "fraction", default=0.5, nonnegative=True, maximum=1.0)
     t.finish()
     settings = TraceSettings(mode=mode or "tree",
                              power_threshold=threshold if threshold is not None
@@ -109,7 +113,11 @@ def read_trace(t: Table | None) -> tuple[TraceSettings, tuple[str, ...] | None]:
                              max_events=max_events or 64,
                              sequence=tuple(sequence) if sequence else None,
                              auto_threshold=bool(auto),
-                             auto_cost=cost if cost is not None else tolerances.AUTO_THRESHOLD_COST)
+                             auto_cost=cost if cost is not None else tolerances.AUTO_THRESHOLD_COST,
+                             scatter_rays=scatter_rays or 16,
+                             scatter_depth=scatter_depth if scatter_depth is not None else 1,
+                             scatter_targets=tuple(targets) if targets is not None else None,
+                             target_share=share if share is not None else 0.5)
     return settings, tuple(sequence) if sequence else None
 
 

@@ -27,6 +27,27 @@ Kinds (``kind = ...``):
 ``absorber``
     Blackened face: every ray that reaches it is absorbed.
 
+Scatter treatments (:mod:`tracer.scatter`; the specular part is ``specular``: ``"fresnel"``
+for the bare interface (default), or the name of a coating defined in the file):
+
+``lambertian``
+    ``reflectance`` and optional ``transmittance`` (fractions scattered by Lambert's law into
+    the reflection and transmission hemispheres); ``rest = "specular"`` (default: the rest
+    meets the specular part) or ``"absorbed"``.
+``rough``
+    A polished face with ``rms_roughness`` (length), ``correlation_length`` (length) and
+    ``psd_exponent`` (> 1, default 2) of a K-correlation surface spectrum: total integrated
+    scatter and a first-order angular distribution, smooth-surface limit only.
+``black``
+    Black paint or anodising: ``diffuse_reflectance`` (Lambertian) and
+    ``specular_reflectance`` (mirror-like), the rest absorbed; opaque.
+``bsdf-table``
+    A measured BSDF from the CSV ``file`` (:mod:`tracer.scatter.table`), ``side =
+    "reflect"`` (default) or ``"transmit"``, ``rest`` as for ``lambertian``.
+
+Every scatter kind takes ``depolarization`` (0..1, default 1: the scattered light is
+unpolarised).
+
 Built-in names usable without a table: ``uncoated``, ``absorber``, ``mirror`` (perfect).
 """
 
@@ -38,16 +59,20 @@ from ..errors import TracerError
 from .context import Build
 from .media import resolve_material
 from .model import FaceTreatment
+from .files import resolve_scene_file
 from .reader import Table
 
-__all__ = ["read_coating", "BUILTIN_TREATMENTS", "COATING_KINDS", "PerSubstrate",
+__all__ = ["read_coating", "BUILTIN_TREATMENTS", "COATING_KINDS", "SCATTER_KINDS", "PerSubstrate",
            "DEFAULT_METAL_THICKNESS"]
 
 #: Thickness of a metal mirror film when none is given [m] (opaque for Al, Ag, Au in
 #: the visible; common practice, no source).
 DEFAULT_METAL_THICKNESS = 200e-9
 
-COATING_KINDS = ("stack", "quarter-wave", "v-coat", "hl-mirror", "ideal", "mirror", "absorber")
+#: Kinds with a scatter model; read after the others, since their ``specular`` may name one.
+SCATTER_KINDS = ("lambertian", "rough", "black", "bsdf-table")
+COATING_KINDS = ("stack", "quarter-wave", "v-coat", "hl-mirror", "ideal", "mirror",
+                 "absorber") + SCATTER_KINDS
 
 #: Treatments available by name in every scene.
 BUILTIN_TREATMENTS = {
@@ -120,7 +145,9 @@ def read_coating(name: str, t: Table, build: Build):
     co = _coatings_module()
     out = None
     try:
-        if kind == "absorber":
+        if kind in SCATTER_KINDS:
+            out = _read_scatter(kind, name, t, build)
+        elif kind == "absorber":
             out = FaceTreatment("absorber", coating_name=name)
         elif kind == "ideal":
             r = t.quantity("reflectance", "fraction", required=True, nonnegative=True, maximum=1.0)
@@ -207,6 +234,100 @@ def read_coating(name: str, t: Table, build: Build):
         out = None
     t.finish(context=f'for a coating of kind "{kind}"' if kind else None)
     return out
+
+
+def _specular_part(name: str, t: Table, build: Build):
+    """The specular treatment under a scatter model: ``specular`` = ``"fresnel"`` (the bare
+    interface) or the name of a coating without scatter, defined in the file."""
+    spec = t.string("specular", default="fresnel") or "fresnel"
+    if spec == "fresnel":
+        return BUILTIN_TREATMENTS["uncoated"]
+    found = build.coatings.get(spec)
+    if isinstance(found, FaceTreatment) and found.scatter is None and found.kind != "absorber":
+        return found
+    if isinstance(found, PerSubstrate):
+        t.error("specular", f'"{spec}" is designed per substrate (a V-coat without "substrate"); '
+                            'give it a "substrate" to use it under a scatter treatment')
+    elif found is not None:
+        t.error("specular", f'"{spec}" cannot be the specular part of a scatter treatment (expected '
+                            '"fresnel" or a coating without scatter that is not an absorber)')
+    elif spec in getattr(build, "coating_keys", ()):
+        pass  # defined but broken: already reported
+    else:
+        known = sorted(k for k, v in build.coatings.items()
+                       if isinstance(v, FaceTreatment) and v.scatter is None)
+        t.error("specular", f'unknown coating "{spec}"; expected "fresnel" or one of '
+                            f"{', '.join(known)}")
+    return None
+
+
+def _read_scatter(kind: str, name: str, t: Table, build: Build):
+    """A scatter treatment (module docstring) as a :class:`FaceTreatment` with ``scatter``."""
+    from .. import scatter as sc
+    from ..scatter import table as _table  # noqa: F401  (sc.table below)
+
+    depol = t.quantity("depolarization", "fraction", default=1.0, nonnegative=True, maximum=1.0)
+    if kind == "black":
+        diffuse = t.quantity("diffuse_reflectance", "fraction", required=True, nonnegative=True,
+                             maximum=1.0)
+        specular = t.quantity("specular_reflectance", "fraction", default=0.0, nonnegative=True,
+                              maximum=1.0)
+        if None in (diffuse, specular, depol):
+            return None
+        if diffuse + specular > 1.0:
+            t.error("diffuse_reflectance", f"diffuse_reflectance + specular_reflectance = "
+                                           f"{diffuse + specular:g} exceeds 1")
+            return None
+        return FaceTreatment("mirror", coating=None, reflectance=specular, coating_name=name,
+                             scatter=sc.BlackSurface(diffuse=diffuse, specular=specular,
+                                                     depolarization=depol))
+    base = _specular_part(name, t, build)
+    rest = "specular"
+    if kind in ("lambertian", "bsdf-table"):
+        rest = t.string("rest", default="specular", choices=("specular", "absorbed")) or "specular"
+    model = None
+    if kind == "lambertian":
+        refl = t.quantity("reflectance", "fraction", required=True, nonnegative=True, maximum=1.0)
+        trans = t.quantity("transmittance", "fraction", default=0.0, nonnegative=True, maximum=1.0)
+        if refl is not None and trans is not None:
+            if refl + trans > 1.0:
+                t.error("reflectance", f"reflectance + transmittance = {refl + trans:g} exceeds 1")
+            elif depol is not None:
+                model = sc.Lambertian(reflectance=refl, transmittance=trans, rest=rest,
+                                      depolarization=depol)
+    elif kind == "rough":
+        sigma = t.quantity("rms_roughness", "length", required=True, positive=True)
+        corr = t.quantity("correlation_length", "length", required=True, positive=True)
+        expo = t.number("psd_exponent", default=2.0, minimum=1.0)
+        if expo is not None and expo <= 1.0:
+            t.error("psd_exponent", f"expected a number > 1 (the roughness must be finite), got {expo:g}")
+            expo = None
+        if None not in (sigma, corr, expo, depol):
+            model = sc.RoughSurface(rms_roughness=sigma, correlation_length=corr, exponent=expo,
+                                    depolarization=depol)
+    else:  # bsdf-table
+        path = t.string("file", required=True)
+        side = t.string("side", default="reflect", choices=("reflect", "transmit")) or "reflect"
+        file = None
+        if path is not None:
+            file = resolve_scene_file(t, build, "file", path, what="BSDF table",
+                                      expected="a CSV file with the columns "
+                                               + ",".join(sc.table.COLUMNS))
+        if file is not None and depol is not None:
+            try:
+                model = sc.table.read_table(
+                    file, side=sc.REFLECT_SIDE if side == "reflect" else sc.TRANSMIT_SIDE,
+                    rest=rest, depolarization=depol)
+            except sc.table.BsdfTableError as exc:
+                t.error("file", str(exc))
+                model = None
+            else:
+                for w in model.warnings:
+                    t.note("file", w)
+    if model is None or base is None:
+        return None
+    return FaceTreatment(base.kind, coating=base.coating, reflectance=base.reflectance,
+                         coating_name=name, scatter=model)
 
 
 def _ambient(build: Build):
