@@ -70,7 +70,8 @@ class PowerBudget:
     rows : list of BudgetRow
     totals : dict
         ``detected_w``, ``absorbed_w``, ``escaped_w``, ``discarded_w``, ``cut_w``
-        (cut includes lost) [W].
+        (cut includes lost), ``sampling_w`` (scattered power booked at scatter events minus
+        what their sampled children carry; signed, zero without scatter) [W].
     residual_w : float [W]
         Source power minus every account (closure residual).
     far_field : list of str
@@ -214,8 +215,11 @@ def power_budget(result, *, source: str | None = None) -> PowerBudget:
     lost = float(b.get("lost_w", 0.0))
     add("cut", "event cap", b["cut_w"] - lost)
     add("lost", "no exit found", lost)
+    sampling = float(b.get("sampling_w", 0.0))
+    add("scatter sampling", "booked minus sampled", sampling)
     totals = {k: float(b[k]) for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w")}
     totals["lost_w"] = lost
+    totals["sampling_w"] = sampling
     far = [d.name for d in getattr(result.compiled, "far_fields", [])]
     tunnelled = {}
     if hasattr(result, "crossed_power"):

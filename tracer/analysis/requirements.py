@@ -32,8 +32,10 @@ A requirement **passes** when its worst-case bound meets the limit, **fails** wh
 best-case bound misses it, and is **inconclusive** otherwise (lower the power threshold
 or raise the event cap, or use ``power_threshold = "auto"``). Only a conclusive pass
 counts as passed (:attr:`Verdict.passed`); ``tracer run`` exits 1 for a failure or an
-inconclusive verdict. In Monte Carlo mode nothing is discarded, only cut; the
-statistical error of the estimate is not part of the bound.
+inconclusive verdict. Where a detector's power rests on sampling (light that met a scatter
+event, or any light in Monte Carlo mode) its bounds are widened by ``VERDICT_SIGMAS`` (3)
+standard errors (:meth:`tracer.engine.Result.detector_standard_error`), and the scatter
+sampling account counts as untraced power; gap leakage carries no sampling error yet.
 
 >>> v = Verdict("leak", "max_power", "cam", value=2e-9, limit=1e-8, unit="W", comparison="<=",
 ...             lower=2e-9, upper=5e-8)
@@ -111,7 +113,11 @@ class Verdict:
         Best and worst case of the value had the untraced (discarded + cut) power gone
         the best or worst way for the requirement (default: ``value``).
     untraced_w : float [W]
-        Discarded plus cut power of the trace, the power the bounds allow for.
+        Discarded plus cut power of the trace (and the magnitude of the scatter sampling
+        account), the power the bounds allow for.
+    sampling_error : float
+        In ``unit``: ``VERDICT_SIGMAS`` (3) standard errors of the value where it rests on
+        sampled scatter (or on Monte Carlo choices), already inside ``lower``/``upper``.
     verdict : str
         ``"pass"``, ``"fail"`` or ``"inconclusive"`` (derived from the bounds).
     passed : bool
@@ -128,6 +134,7 @@ class Verdict:
     lower: float | None = None
     upper: float | None = None
     untraced_w: float = 0.0
+    sampling_error: float = 0.0
     verdict: str = field(init=False)
     passed: bool = field(init=False)
 
@@ -151,17 +158,24 @@ class Verdict:
             return ""
         side = "at most" if self.comparison == "<=" else "at least"
         other = self.upper if self.comparison == "<=" else self.lower
-        return (f"{self.name}: inconclusive, the value is {_fmt(self.value, self.unit)} but could "
+        text = (f"{self.name}: inconclusive, the value is {_fmt(self.value, self.unit)} but could "
                 f"be {_fmt(other, self.unit)} had the {fmt_sci(self.untraced_w)} W of discarded "
-                f"and cut power gone the worst way; it must be {side} "
-                f"{_fmt(self.limit, self.unit)}: {ADVICE}")
+                f"and cut power gone the worst way")
+        if self.sampling_error > 0:
+            text += (f" and with its sampling error ({_fmt(self.sampling_error, self.unit)} at "
+                     "3 standard errors)")
+        text += f"; it must be {side} {_fmt(self.limit, self.unit)}: {ADVICE}"
+        if self.sampling_error > 0:
+            text += "; for the sampling error, trace more source rays or raise trace.scatter_rays"
+        return text
 
     def to_dict(self) -> dict:
         return dict(name=self.name, kind=self.kind, subject=self.subject, passed=self.passed,
                     verdict=self.verdict, value=finite_or_none(self.value),
                     limit=float(self.limit), unit=self.unit, comparison=self.comparison,
                     bound=finite_or_none(self.bound), lower=finite_or_none(self.lower),
-                    upper=finite_or_none(self.upper), untraced_w=float(self.untraced_w))
+                    upper=finite_or_none(self.upper), untraced_w=float(self.untraced_w),
+                    sampling_error=float(self.sampling_error))
 
     def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
         from ..notebook import verdicts_html
@@ -190,9 +204,19 @@ def _fmt(x: float, unit: str) -> str:
 
 
 def untraced_power(result) -> float:
-    """Discarded plus cut (and lost) power of a trace [W]."""
+    """Discarded plus cut (and lost) power of a trace [W], plus the magnitude of the scatter
+    sampling account (scattered power booked at the events that the sampled children do not
+    carry, or carry in excess: power whose destination the sampling did not resolve)."""
     tot = result.ledger.totals()
-    return float(tot["discarded_w"] + tot["cut_w"])
+    return float(tot["discarded_w"] + tot["cut_w"] + abs(tot.get("sampling_w", 0.0)))
+
+
+def _sigma(result, detector) -> float:
+    """``VERDICT_SIGMAS`` standard errors of a detector's sampled power [W]."""
+    from ..tolerances import VERDICT_SIGMAS
+
+    se = getattr(result, "detector_standard_error", None)
+    return VERDICT_SIGMAS * float(se(detector)) if se is not None else 0.0
 
 
 def evaluate(result, *, ghosts: dict | None = None) -> list[Verdict]:
@@ -221,13 +245,17 @@ def evaluate(result, *, ghosts: dict | None = None) -> list[Verdict]:
         limit = float(spec.limit)
         if spec.kind in ("min_power", "max_power"):
             p = float(result.detector_power(spec.detector))
+            k = _sigma(result, spec.detector)
             if spec.relative:
-                value, unit, u = (p / src if src else 0.0), "1", u_frac
+                scale = 1.0 / src if src else 0.0
+                value, unit, u = p * scale, "1", u_frac
             else:
+                scale = 1.0
                 value, unit, u = p, "W", u_w
             cmp = ">=" if spec.kind == "min_power" else "<="
             out.append(Verdict(spec.name, spec.kind, spec.detector, value, limit, unit, cmp,
-                               lower=value, upper=value + u, untraced_w=u_w))
+                               lower=max(value - k * scale, 0.0), upper=value + u + k * scale,
+                               untraced_w=u_w, sampling_error=k * scale))
         elif spec.kind == "max_ghost_fraction":
             table = ghosts.get(spec.detector)
             if table is None:
@@ -235,11 +263,13 @@ def evaluate(result, *, ghosts: dict | None = None) -> list[Verdict]:
             value = table.ghost_fraction
             ghost_w = float(table.ghost_power_w)
             signal = float(table.design_group_power_w)
-            upper = (ghost_w + u_w) / signal if signal > 0 else math.inf
-            lower = ghost_w / (signal + u_w) if signal + u_w > 0 else math.inf
+            k = _sigma(result, spec.detector)
+            upper = (ghost_w + u_w + k) / signal if signal > 0 else math.inf
+            lower = max(ghost_w - k, 0.0) / (signal + u_w) if signal + u_w > 0 else math.inf
             lower = min(lower, value)
             out.append(Verdict(spec.name, spec.kind, spec.detector, value, limit, "1", "<=",
-                               lower=lower, upper=max(upper, value), untraced_w=u_w))
+                               lower=lower, upper=max(upper, value), untraced_w=u_w,
+                               sampling_error=k / signal if signal > 0 else 0.0))
         elif spec.kind == "max_leakage":
             value = gap_leakage(result, spec.gap,
                                 mechanism=getattr(spec, "mechanism", "crossed"))

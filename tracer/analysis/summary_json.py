@@ -142,6 +142,7 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         detected_w=budget.totals["detected_w"], absorbed_w=budget.totals["absorbed_w"],
         escaped_w=budget.totals["escaped_w"], discarded_w=budget.totals["discarded_w"],
         cut_w=budget.totals["cut_w"], lost_w=budget.totals["lost_w"],
+        sampling_w=budget.totals.get("sampling_w", 0.0),
         residual_w=budget.residual_w, relative_residual=budget.relative_residual,
         detectors={k: float(v) for k, v in b["detectors"].items()},
         absorbed_faces={k: float(v) for k, v in b["absorbed_faces"].items()},

@@ -86,6 +86,14 @@ def run(args) -> int:
         for table in analysis.ghosts.values():
             print()
             print(table.format_text(limit=top))
+        if result.compiled.scatter_models:
+            from ..analysis.scatter_sources import format_scatter_ranking
+
+            for name in result.compiled.detector_names:
+                text = format_scatter_ranking(result, name)
+                if text:
+                    print()
+                    print(text)
         if not scene.detectors:
             print()
             print("detectors: none declared, so no light is recorded (the budget above still "

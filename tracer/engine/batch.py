@@ -76,6 +76,10 @@ class RayBatch:
         Index into the :class:`SourceTable`.
     opl : (N,) float [m]
         Optical path length travelled so far (real part of the index times length).
+    stream : (N,) int
+        Random-stream key of the ray within its source ray's tree: 0 until a scatter event
+        in tree mode, then a hash of the sample that made it (so that siblings draw
+        different numbers, whatever the batch).
     """
 
     origin: np.ndarray
@@ -90,6 +94,11 @@ class RayBatch:
     last_face: np.ndarray
     root: np.ndarray
     opl: np.ndarray
+    stream: np.ndarray = None
+
+    def __post_init__(self):
+        if self.stream is None:
+            self.stream = np.zeros(len(self.power), dtype=np.int64)
 
     def __len__(self) -> int:
         return len(self.power)
@@ -110,6 +119,7 @@ class RayBatch:
             last_face=np.full(n, -1, dtype=np.int64),
             root=np.zeros(n, dtype=np.int64),
             opl=np.zeros(n),
+            stream=np.zeros(n, dtype=np.int64),
         )
 
     def take(self, index) -> "RayBatch":

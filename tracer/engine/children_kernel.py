@@ -123,4 +123,5 @@ def assemble(b, ii, fi, pos, sp, ev, reflected, transmitted, gains=None):
               c(kl_t, dtype=i64), c(node_t, dtype=i64), c(pow_t, dtype=np.float64), c(g_t),
               use_gain, out.origin, out.direction, out.wavelength, out.wl_index, out.field,
               out.power, out.medium, out.node, out.events, out.last_face, out.root, out.opl)
+    out.stream = np.concatenate([b.stream[ii[kl_r]], b.stream[ii[kl_t]]])
     return out

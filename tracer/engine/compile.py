@@ -75,6 +75,10 @@ class CompiledScene:
     det_two_sided: np.ndarray
     far_fields: list  # DetectorSpec of far-field detectors
     face_index: dict = field(default_factory=dict)
+    face_scatter: np.ndarray = None  # (F+D,) index into scatter_models, -1 none
+    scatter_models: list = field(default_factory=list)
+    scatter_names: list = field(default_factory=list)  # coating name of each model
+    scatter_targets: object = None  # tracer.scatter.targets.Targets or None
     face_group: np.ndarray = None  # treatment group per face (coated faces)
     group_treatment: list = field(default_factory=list)
     _n_cache: dict = field(default_factory=dict)
@@ -243,6 +247,8 @@ def compile_scene(scene) -> CompiledScene:
             groups[key] = len(group_treatment)
             group_treatment.append(t)
         face_group[f] = groups[key]
+    face_scatter, scatter_models, scatter_names = _scatter_faces(treat, all_names, face_gap,
+                                                                 scene.gaps)
     glo, ghi, gmem = box_groups(lo, hi)
     mlo = mhi = gmem_t = None
     if gmem is not None:
@@ -296,7 +302,65 @@ def compile_scene(scene) -> CompiledScene:
         det_two_sided=np.array(dtwo, dtype=bool),
         far_fields=far,
         face_index=index,
+        face_scatter=face_scatter,
+        scatter_models=scatter_models,
+        scatter_names=scatter_names,
+        scatter_targets=_scatter_targets(scene, index, n_faces, geoms, names, det_names,
+                                         dpos_a, dx, dy, dhalf) if scatter_models else None,
     )
+
+
+def _scatter_faces(treat, names, face_gap, gaps):
+    """Per face the index of its scatter model (-1: none), the models and their names."""
+    face_scatter = np.full(len(names), -1, dtype=np.int64)
+    models, model_names, seen = [], [], {}
+    for f, t in enumerate(treat):
+        model = getattr(t, "scatter", None) if t is not None else None
+        if model is None:
+            continue
+        if face_gap[f] >= 0:
+            gname = list(gaps)[int(face_gap[f])]
+            raise EngineError(f"face {names[f]!r} has the scatter treatment "
+                              f"{t.coating_name!r} but is a face of gap {gname!r}: scatter "
+                              "inside a gap is not modelled; put the scatter treatment on a "
+                              "face in the ambient, or remove the gap")
+        if id(model) not in seen:
+            seen[id(model)] = len(models)
+            models.append(model)
+            model_names.append(t.coating_name or model.name)
+        face_scatter[f] = seen[id(model)]
+    return face_scatter, models, model_names
+
+
+def _scatter_targets(scene, index, n_faces, geoms, names, det_names, dpos, dx, dy, dhalf):
+    """Triangles of the scatter targets (``trace.scatter_targets``; default every plane
+    detector), or ``None`` when there are none."""
+    from ..scatter.targets import Targets, polygon_triangles, rectangle_triangles
+
+    wanted = scene.settings.scatter_targets
+    if wanted is None:
+        wanted = tuple(det_names)
+    tris = []
+    for name in wanted:
+        if name in det_names:
+            d = det_names.index(name)
+            tris.append(rectangle_triangles(dpos[d], dx[d], dy[d], dhalf[d]))
+            continue
+        f = index.get(name)
+        if f is None or f >= n_faces:
+            import difflib
+
+            close = difflib.get_close_matches(name, det_names + list(index)[:n_faces], n=3)
+            hint = f" (did you mean {', '.join(close)}?)" if close else ""
+            raise EngineError(f"trace.scatter_targets: unknown target {name!r}{hint}; expected a "
+                              "plane detector or a face 'solid.face'")
+        solid, face = name.split(".", 1)
+        g = geoms[names.index(solid)]
+        poly = g.face_polygons[list(g.face_names).index(face)]
+        tris.append(polygon_triangles(poly))
+    if not tris:
+        return None
+    return Targets(np.concatenate(tris))
 
 
 #: Scenes with more solids than this get a two-level broad phase (groups of solids).

@@ -76,6 +76,9 @@ class Ledger:
     DISCARDED = 0
     CUT = 1
     LOST = 2
+    #: Scattered power booked at scatter events minus the power its sampled children
+    #: carry (signed: importance-sampled weights sum to the booked power only on average).
+    SAMPLING = 3
 
     #: Event-kind codes of a transmission and a tunnel event (see :mod:`tracer.engine.paths`).
     TRANSMIT_KIND = 0
@@ -86,7 +89,7 @@ class Ledger:
         self.detectors = list(detectors)
         self.faces = list(faces)
         self.bulks = list(bulks)
-        self._d0 = 3
+        self._d0 = 4
         self._fa0 = self._d0 + len(self.detectors)
         self._b0 = self._fa0 + len(self.faces)
         self._e0 = self._b0 + len(self.bulks)
@@ -106,6 +109,12 @@ class Ledger:
         self.refract = np.zeros((len(self.sources), len(self.gaps), 2))
         self.behind = np.zeros((len(self.sources), len(self.detectors)))
         self.untraced = np.zeros((len(self.sources), len(self.faces)))
+        # scattered power per face (non-closing), and the per-source-ray sums of sampled
+        # detector power (sum, sum of squares) with the number of source rays, for the
+        # standard errors of results that rest on sampling (:meth:`standard_error`)
+        self.scattered = np.zeros((len(self.sources), len(self.faces)))
+        self.sampled = np.zeros((len(self.sources), len(self.detectors), 2))
+        self.rays = np.zeros(len(self.sources))
 
     # account numbers -------------------------------------------------------------
     def detector(self, index):
@@ -254,6 +263,48 @@ class Ledger:
         return (self._gap_sum(self.tunnel, gap, source, side)
                 + self._gap_sum(self.refract, gap, source, side))
 
+    def book_scattered(self, source, face, power) -> None:
+        """Add ``power`` [W] scattered at global face ``face`` (booked at the event)."""
+        power = np.asarray(power, dtype=float)
+        if power.size == 0:
+            return
+        flat = np.asarray(source, dtype=np.int64) * len(self.faces) + np.asarray(face)
+        self.scattered += np.bincount(flat, weights=power,
+                                      minlength=self.scattered.size).reshape(self.scattered.shape)
+
+    def book_sampled(self, source, per_ray) -> None:
+        """Fold one launch batch's sampled detector power per source ray into the sums.
+
+        Parameters
+        ----------
+        source : (R,) int
+            Source index of each source ray of the batch.
+        per_ray : (R, D) float [W]
+            Sampled power each source ray's tree put on each detector.
+        """
+        source = np.asarray(source, dtype=np.int64)
+        if source.size == 0:
+            return
+        for k, v in enumerate((per_ray, per_ray * per_ray)):
+            for d in range(len(self.detectors)):
+                self.sampled[:, d, k] += np.bincount(source, weights=v[:, d],
+                                                     minlength=len(self.sources))
+        self.rays += np.bincount(source, minlength=len(self.sources))
+
+    def standard_error(self, detector: int) -> float:
+        """Standard error [W] of the sampled part of plane detector ``detector``'s power,
+        treating the source rays as independent samples: per source
+        ``sqrt((N sum x^2 - (sum x)^2) / (N - 1))`` over its N rays, combined over sources
+        in quadrature. Exact for randomly sampled sources, conservative for grid sources
+        (their ray-to-ray spread counts as noise); 0 when nothing detected was sampled."""
+        s1 = self.sampled[:, int(detector), 0]
+        s2 = self.sampled[:, int(detector), 1]
+        var = 0.0
+        for n, a, b in zip(self.rays, s1, s2):
+            if n > 1:
+                var += max(n * b - a * a, 0.0) / (n - 1)
+        return float(np.sqrt(var))
+
     def book_absorbed(self, source, account, power) -> None:
         """:meth:`book` absorbed power [W] clamped at zero per booking.
 
@@ -283,6 +334,9 @@ class Ledger:
         self.refract += other.refract
         self.behind += other.behind
         self.untraced += other.untraced
+        self.scattered += other.scattered
+        self.sampled += other.sampled
+        self.rays += other.rays
 
     # reading ---------------------------------------------------------------------
     def _split(self, row):
@@ -304,6 +358,7 @@ class Ledger:
             "escaped_w": float(esc.sum()),
             "discarded_w": float(row[self.DISCARDED]),
             "cut_w": float(row[self.CUT] + row[self.LOST]),
+            "sampling_w": float(row[self.SAMPLING]),
         }
         booked = sum(v for k, v in out.items() if k != "source_w")
         out["residual_w"] = float(launched - booked)

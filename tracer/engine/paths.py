@@ -18,6 +18,9 @@ tunnel     FT    frustrated transmission: tunnelled across a gap beyond the gap
                  medium's critical angle
 absorb     A     ended on an absorbing face
 detect     D     ended on a detector
+scatter-r  SR    scattered into the reflection hemisphere (the side the light came
+                 from) by a scatter treatment
+scatter-t  ST    scattered into the transmission hemisphere
 =========  ====  =============================================================
 
 A signature reads from the source to the end, separated by ``" > "``; the faces are
@@ -51,15 +54,20 @@ __all__ = [
     "TUNNEL",
     "ABSORB",
     "DETECT",
+    "SCATTER_R",
+    "SCATTER_T",
+    "SCATTER_KINDS",
     "KIND_NAMES",
     "KIND_CODES",
 ]
 
-TRANSMIT, REFLECT, TIR, TUNNEL, ABSORB, DETECT = range(6)
+TRANSMIT, REFLECT, TIR, TUNNEL, ABSORB, DETECT, SCATTER_R, SCATTER_T = range(8)
+SCATTER_KINDS = (SCATTER_R, SCATTER_T)
 #: Kind names, by code number.
-KIND_NAMES = ("transmit", "reflect", "TIR", "tunnel", "absorb", "detect")
+KIND_NAMES = ("transmit", "reflect", "TIR", "tunnel", "absorb", "detect", "scatter-r",
+              "scatter-t")
 #: Short codes used in signatures, by code number.
-KIND_CODES = ("T", "R", "TIR", "FT", "A", "D")
+KIND_CODES = ("T", "R", "TIR", "FT", "A", "D", "SR", "ST")
 _NK = 8
 
 
@@ -166,6 +174,7 @@ class PathTree:
             "kind": np.full(cap, -1, dtype=np.int64),
             "depth": np.zeros(cap, dtype=np.int64),
             "root": np.zeros(cap, dtype=np.int64),
+            "scatters": np.zeros(cap, dtype=np.int64),
         }
         self._a["root"][:n] = np.arange(n)
         self._size = n
@@ -227,6 +236,8 @@ class PathTree:
             a["kind"][nid] = nk % _NK
             a["depth"][nid] = a["depth"][p] + 1
             a["root"][nid] = a["root"][p]
+            k = a["kind"][nid]
+            a["scatters"][nid] = a["scatters"][p] + ((k == SCATTER_R) | (k == SCATTER_T))
             self._size += added
 
     @property
@@ -248,6 +259,11 @@ class PathTree:
     def depth(self) -> np.ndarray:
         """(nodes,) int: number of events from the root."""
         return self._a["depth"][: self._size]
+
+    @property
+    def scatters(self) -> np.ndarray:
+        """(nodes,) int: number of scatter events from the root."""
+        return self._a["scatters"][: self._size]
 
     @property
     def root(self) -> np.ndarray:

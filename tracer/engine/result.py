@@ -105,6 +105,25 @@ class Result:
             return self.ledger.totals()["escaped_w"]
         raise KeyError(self._unknown_detector(name))
 
+    def detector_standard_error(self, name: str) -> float:
+        """Standard error [W] of the sampled part of detector ``name``'s power: light that
+        met a scatter event in tree mode, everything in Monte Carlo mode
+        (:meth:`Ledger.standard_error`); 0 when nothing on it was sampled. Far-field
+        detectors: not estimated (0)."""
+        cs = self.compiled
+        if name in cs.detector_names:
+            return self.ledger.standard_error(cs.detector_names.index(name))
+        if name in [d.name for d in cs.far_fields]:
+            return 0.0
+        raise KeyError(self._unknown_detector(name))
+
+    def scattered_power(self) -> dict:
+        """Power scattered at each face [W], booked at the scatter events (faces that
+        scattered nothing are left out)."""
+        led = self.ledger
+        tot = led.scattered.sum(axis=0)
+        return {n: float(v) for n, v in zip(led.faces, tot) if v != 0}
+
     # ------------------------------------------------------------------ gaps
     @property
     def gap_names(self) -> list[str]:

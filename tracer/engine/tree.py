@@ -34,7 +34,7 @@ import numpy as np
 
 from .. import polarization as pol
 from ..tolerances import PLANE_EPS
-from . import children_kernel, detect_kernel, hash_kernel, jit
+from . import children_kernel, detect_kernel, hash_kernel, jit, scatter_event
 from .batch import RayBatch, SourceTable
 from .compile import ABSORBER, DETECTOR, CompiledScene, EngineError
 from .interact import split
@@ -82,6 +82,9 @@ class Options:
     ray_range: object = None
     event_budget: int | None = None
     memory_budget: float | None = None
+    scatter_rays: int = 16
+    scatter_depth: int = 1
+    target_share: float = 0.5
 
 
 class Recorder:
@@ -302,6 +305,10 @@ class _Tracer:
         self.coh_len = coherence  # (W,) coherence length per wavelength column
         self.mc = opts.mode == "monte-carlo"
         self.one_sided = np.nonzero(~np.asarray(cs.det_two_sided, dtype=bool))[0]
+        #: (source rays of the launch batch, detectors) sampled detected power [W], or None
+        #: when nothing is sampled (no scatter, tree mode); see :meth:`Ledger.book_sampled`
+        self.sampled = None
+        self.tracks_sampling = bool((cs.scatter_models or self.mc) and len(cs.detector_names))
 
     def _behind(self, b: RayBatch, t, src) -> None:
         """Book the power of rays that cross a one-sided detector from behind.
@@ -415,6 +422,10 @@ class _Tracer:
             node = tree.extend(b.node[hd], face[det], np.full(len(hd), DETECT))
             led.book(src[det], led.detector(di), b.power[hd])
             root = b.root[hd]
+            if self.sampled is not None:  # per source ray, for standard errors
+                smp = tree.scatters[node] > 0 if not self.mc else np.ones(len(hd), dtype=bool)
+                if smp.any():
+                    np.add.at(self.sampled, (b.root[hd][smp], di[smp]), b.power[hd][smp])
             rec.detect(di, node, pos[det], direction[det], b.field[hd], b.power[hd],
                        b.wavelength[hd], table.coherency[root], table.power[root], src[det],
                        table.ray_id[root], self.mc)
@@ -440,10 +451,23 @@ class _Tracer:
                    coherence_length=self.coh_len[wl_i])
         src_i = src[ii]
         ev = b.events[idx] + 1
+        sc = None
+        if cs.scatter_models:
+            sc = scatter_event.shares(self, sp, ii, direction=direction[ii], face=fi, medium=med_i,
+                                      wl_index=wl_i, wavelength=b.wavelength[idx],
+                                      parent_p=parent_p)
+        scat_children = []
+        parent_nodes = b.node[idx]
         if self.mc:
-            u = uniforms(self.opts.seed, src_i, table.ray_id[root_i], ev - 1, FACE)
+            u = uniforms(self.opts.seed, src_i, table.ray_id[root_i] ^ b.stream[idx], ev - 1, FACE)
             which = choose(u, sp.r_power, sp.t_power * sp.t_exists, parent_p)
             gone = which == 2
+            if sc is not None:
+                scattered, scat_children = scatter_event.mc_scatter(
+                    self, b, table, sc, idx=idx, face=fi, pos=pos_i, ev=ev, src=src_i,
+                    parent_nodes=parent_nodes, which=which, parent_p=parent_p,
+                    absorbed=sp.absorbed)
+                gone &= ~scattered
             if gone.any():
                 led.book(src_i[gone], led.face_absorbed(fi[gone]), parent_p[gone])
             rsel = which == 0
@@ -459,7 +483,14 @@ class _Tracer:
             tsel = sp.t_exists
             r_power = sp.r_power
             t_power = sp.t_power
-        parent_nodes = b.node[idx]
+            if sc is not None:  # a scatter face may leave no specular power at all
+                on = np.zeros(len(ii), dtype=bool)
+                on[sc.rows] = True
+                rsel = ~(on & (r_power <= 0))
+                tsel = tsel & ~(on & (t_power <= 0))
+                scat_children = scatter_event.children(
+                    self, b, table, sc, idx=idx, face=fi, pos=pos_i, ev=ev, src=src_i,
+                    parent_nodes=parent_nodes)
         thr = self.opts.power_threshold * table.power[root_i]
         children = []
         fast = jit.compiled()
@@ -501,14 +532,14 @@ class _Tracer:
                 origin=org[kl], direction=dirs[kl], wavelength=b.wavelength[j],
                 wl_index=b.wl_index[j], field=fld, power=pk[live], medium=medium[kl],
                 node=nodes[live], events=ev[kl], last_face=lf[kl], root=b.root[j], opl=b.opl[j],
+                stream=b.stream[j],
             ))
         if fast:
-            if not keep:
-                return RayBatch.empty(0)
-            return children_kernel.assemble(b, idx, fi, pos_i, sp, ev, keep.get("r"),
-                                            keep.get("t"),
-                                            (gain["r"], gain["t"]) if self.mc else None)
-        return RayBatch.concatenate(children)
+            if keep:
+                children = [children_kernel.assemble(b, idx, fi, pos_i, sp, ev, keep.get("r"),
+                                                      keep.get("t"),
+                                                      (gain["r"], gain["t"]) if self.mc else None)]
+        return RayBatch.concatenate(children + scat_children)
 
 
 def _born_at(last_face, face):
@@ -561,6 +592,8 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
         for rays in batches:
             table, b = _launch(cs, rays, 0, ledger, wl_lookup)
             launched[s] += len(b)
+            if tracer.tracks_sampling:
+                tracer.sampled = np.zeros((len(table), len(cs.detector_names)))
             stack = [b]
             while stack:
                 cur = stack.pop()
@@ -587,6 +620,8 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
                                                   what="memory", used=used)
                 if len(nxt):
                     stack.append(nxt)
+            if tracer.sampled is not None:
+                ledger.book_sampled(table.source, tracer.sampled)
             done += len(b)
             if progress:
                 progress(done)

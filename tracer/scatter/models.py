@@ -31,7 +31,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..tolerances import SMOOTH_SURFACE_TIS_MAX
 from . import psd as _psd
 
 __all__ = ["Lambertian", "BlackSurface", "RoughSurface", "REFLECT_SIDE", "TRANSMIT_SIDE",
