@@ -88,7 +88,8 @@ def test_ledger_closes_on_every_demo(runs):
     (conservation of energy; common practice)."""
     for name, run in runs.items():
         led = run["ledger"]
-        total = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w"))
+        total = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w",
+                                     "sampling_w"))
         total += led.get("lost_w", 0.0)
         assert total == pytest.approx(led["source_w"], rel=1e-9), name
         assert led["source_w"] == pytest.approx(run["source_power_w"], rel=1e-12)

@@ -15,7 +15,7 @@ def test_demo_scene_ledger_closes(path):
 
     res = trace(load(path), progress=False)
     t = res.ledger.totals()
-    booked = t["detected_w"] + t["absorbed_w"] + t["escaped_w"] + t["discarded_w"] + t["cut_w"]
+    booked = t["detected_w"] + t["absorbed_w"] + t["escaped_w"] + t["discarded_w"] + t["cut_w"] + t["sampling_w"]
     assert abs(booked - t["source_w"]) <= 1e-9 * t["source_w"]
     s = res.summary()
     assert s["source_power_w"] == pytest.approx(t["source_w"])

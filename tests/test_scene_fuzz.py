@@ -315,7 +315,7 @@ def test_extreme_mutants_trace_with_closure_and_finite_outputs():
         s = res.summary()
         led = s["ledger"]
         total = (led["detected_w"] + led["absorbed_w"] + led["escaped_w"] + led["discarded_w"]
-                 + led["cut_w"])
+                 + led["cut_w"] + led.get("sampling_w", 0.0))
         assert total == pytest.approx(s["source_power_w"], rel=1e-9, abs=1e-300)
         _all_finite(s)
         json.dumps(run_summary(analyse(res)), allow_nan=False)  # no NaN or Infinity in the JSON

@@ -219,12 +219,7 @@ class Ledger:
 
     def book_untraced(self, source, face, power) -> None:
         """Add discarded or cut ``power`` [W] of children born at global face ``face``."""
-        power = np.asarray(power, dtype=float)
-        if power.size == 0:
-            return
-        flat = np.asarray(source, dtype=np.int64) * len(self.faces) + np.asarray(face)
-        self.untraced += np.bincount(flat, weights=power,
-                                     minlength=self.untraced.size).reshape(self.untraced.shape)
+        self._book_by_face(self.untraced, source, face, power)
 
     def behind_power(self, detector=None, *, source=None) -> float:
         """Power [W] that crossed ``detector`` (index; all when None) from behind."""
@@ -265,12 +260,15 @@ class Ledger:
 
     def book_scattered(self, source, face, power) -> None:
         """Add ``power`` [W] scattered at global face ``face`` (booked at the event)."""
+        self._book_by_face(self.scattered, source, face, power)
+
+    def _book_by_face(self, table, source, face, power) -> None:
+        """Add ``power`` [W] to ``table[source, face]`` (a per-face, non-closing table)."""
         power = np.asarray(power, dtype=float)
         if power.size == 0:
             return
         flat = np.asarray(source, dtype=np.int64) * len(self.faces) + np.asarray(face)
-        self.scattered += np.bincount(flat, weights=power,
-                                      minlength=self.scattered.size).reshape(self.scattered.shape)
+        table += np.bincount(flat, weights=power, minlength=table.size).reshape(table.shape)
 
     def book_sampled(self, source, per_ray) -> None:
         """Fold one launch batch's sampled detector power per source ray into the sums.
