@@ -33,10 +33,11 @@ def test_run_every_demo_scene(scene, tmp_path, capsys):
     code, out, err = run_cli(capsys, "run", scene, "--rays", 5, "--out", out_dir, "--json", js,
                              "--no-figures")
     data = json.loads(js.read_text(encoding="utf-8"))
-    # exit code 1 exactly when a requirement failed, and then the table says FAIL
+    # exit code 1 exactly when a requirement failed or is inconclusive (few rays here), and
+    # then the table says which
     assert code == (0 if data["passed"] else 1), out + err
     if code == 1:
-        assert "FAIL" in out
+        assert "FAIL" in out or "INCONCLUSIVE" in out
     assert "power budget" in out and "closure residual" in out
     assert (out_dir / "summary.json").exists() and (out_dir / "budget.csv").exists()
     for det, d in data["detectors"].items():
