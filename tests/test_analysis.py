@@ -269,7 +269,8 @@ def test_run_summary_is_strict_json_with_documented_keys():
     assert cam["power_w"] == pytest.approx(sum(p["power_w"] for p in cam["paths"]), rel=1e-12)
     assert set(cam["paths"][0]) >= {"signature", "power_w", "reflections"}
     led = back["ledger"]
-    booked = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w"))
+    booked = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w",
+                                  "sampling_w"))
     assert booked + led["residual_w"] == pytest.approx(back["source_power_w"], rel=1e-12)
     (r,) = back["requirements"]
     assert set(r) >= {"name", "passed", "value", "limit"} and r["passed"] is True

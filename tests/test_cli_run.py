@@ -45,7 +45,8 @@ def test_run_every_demo_scene(scene, tmp_path, capsys):
         assert d["power_w"] >= 0
     # the ledger closes to the source power (energy conservation)
     led = data["ledger"]
-    booked = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w"))
+    booked = sum(led[k] for k in ("detected_w", "absorbed_w", "escaped_w", "discarded_w", "cut_w",
+                                  "sampling_w"))
     assert booked == pytest.approx(data["source_power_w"], rel=1e-9)
     assert data["settings"]["rays_requested"] == 5
     assert json.loads((out_dir / "summary.json").read_text(encoding="utf-8")) == data
