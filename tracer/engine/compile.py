@@ -76,6 +76,8 @@ class CompiledScene:
     far_fields: list  # DetectorSpec of far-field detectors
     face_index: dict = field(default_factory=dict)
     face_scatter: np.ndarray = None  # (F+D,) index into scatter_models, -1 none
+    face_opaque: np.ndarray = None  # (F+D,) bool: a face of an opaque part (never entered)
+    any_opaque: bool = False
     scatter_models: list = field(default_factory=list)
     scatter_names: list = field(default_factory=list)  # coating name of each model
     scatter_targets: object = None  # tracer.scatter.targets.Targets or None
@@ -205,6 +207,8 @@ def compile_scene(scene) -> CompiledScene:
         dtwo.append(bool(d.two_sided))
     D = len(det_names)
     all_names = face_names + det_names
+    face_opaque = np.array([bool(scene.solids[names[s]].opaque) for s in face_solid] + [False] * D,
+                           dtype=bool)
     face_solid = np.array(face_solid + [-1] * D, dtype=np.int64)
     face_local = np.array(face_local + list(range(D)), dtype=np.int64)
     dnor_a = np.array(dnor).reshape(D, 3)
@@ -303,6 +307,8 @@ def compile_scene(scene) -> CompiledScene:
         far_fields=far,
         face_index=index,
         face_scatter=face_scatter,
+        face_opaque=face_opaque,
+        any_opaque=bool(face_opaque.any()),
         scatter_models=scatter_models,
         scatter_names=scatter_names,
         scatter_targets=_scatter_targets(scene, index, n_faces, geoms, names, det_names,

@@ -488,6 +488,12 @@ def split(cs: CompiledScene, *, direction, position, field, power, medium, face,
         t_power = co.Ts * Ps + co.Tp * Pp
         t_power[~t_exists] = 0.0
         absorbed = power - r_power - t_power
+    if cs.any_opaque:  # an opaque part is never entered: what its face transmits ends there
+        op = cs.face_opaque[face] & t_exists
+        if op.any():
+            absorbed = absorbed + np.where(op, t_power, 0.0)
+            t_power = np.where(op, 0.0, t_power)
+            t_exists = t_exists & ~op
     tir = ~prop | beyond_gap
     r_kind = np.where(tir, TIR, REFLECT)
     t_kind = np.where(beyond_gap, TUNNEL, TRANSMIT)

@@ -102,11 +102,19 @@ def section(geometry, plane: Plane, *, tol: float | None = None) -> Section:
     """
     polys = [np.asarray(p, dtype=float) for p in geometry.face_polygons]
     normals = np.asarray(geometry.face_normals, dtype=float)
+    names = list(geometry.face_names)
+    if callable(getattr(geometry, "triangles", None)):
+        # a mesh face may have holes (a tube's end, a baffle's plate) that its outer
+        # boundary polygon does not show: cut its triangles instead
+        verts, tris, tface = geometry.triangles()
+        polys = list(np.asarray(verts, dtype=float)[np.asarray(tris)])
+        normals = normals[np.asarray(tface)]
+        names = [names[f] for f in np.asarray(tface)]
     size = float(np.ptp(np.asarray(geometry.bounds, dtype=float), axis=0).max())
     eps = tol if tol is not None else 1e-9 * max(size, 1e-12)
     w = plane.w
     edges = []
-    for poly, name, nrm in zip(polys, geometry.face_names, normals):
+    for poly, name, nrm in zip(polys, names, normals):
         s = (poly - plane.origin) @ w
         if np.all(np.abs(s) <= eps):
             continue  # face in the plane: not a cut edge
@@ -133,7 +141,46 @@ def section(geometry, plane: Plane, *, tol: float | None = None) -> Section:
             p0, p1 = plane.to2d(pts[i]), plane.to2d(pts[i + 1])
             if np.linalg.norm(p1 - p0) > eps:
                 edges.append((p0, p1, name, n2))
+    if len(polys) != len(geometry.face_names):
+        while True:  # repeat: a segment may bridge two earlier, separate ones
+            joined = _merge_collinear(edges, eps * 10)
+            if len(joined) == len(edges):
+                break
+            edges = joined
     return Section(edges=edges, loops=_chain(edges, eps * 10))
+
+
+def _merge_collinear(edges, tol):
+    """Join cut segments of one face that meet end to end on one line.
+
+    A face cut triangle by triangle gives one segment per triangle; drawn and labelled,
+    the face should be one edge per stretch it crosses the plane.
+    """
+    merged = []
+    for edge in edges:
+        p0, p1, name, n2 = edge
+        for i, (q0, q1, other, m2) in enumerate(merged):
+            if other != name or abs(float(n2 @ m2)) < 1.0 - 1e-9:
+                continue
+            d = q1 - q0
+            # collinear: both new ends on the old segment's line
+            off = max(abs(_cross2(d, p0 - q0)), abs(_cross2(d, p1 - q0))) / np.linalg.norm(d)
+            if off > tol:
+                continue
+            ends = [q0, q1, p0, p1]
+            touching = min(np.linalg.norm(a - b) for a in (q0, q1) for b in (p0, p1))
+            if touching > tol:
+                continue
+            t = [float((e - q0) @ d) for e in ends]
+            merged[i] = (ends[int(np.argmin(t))], ends[int(np.argmax(t))], name, m2)
+            break
+        else:
+            merged.append(edge)
+    return merged
+
+
+def _cross2(a, b):
+    return float(a[0] * b[1] - a[1] * b[0])
 
 
 def _chain(edges, tol):

@@ -295,6 +295,31 @@ def material_colors(names) -> dict[str, str]:
     return out
 
 
+#: Fill of opaque parts (mounts, baffles, housings): dark grey without a material, a
+#: lighter grey for a part with a bulk material (metal), so that parts never look like glass.
+PART_COLOR = "#3b3b3b"
+PART_MATERIAL_COLOR = "#8a8a8a"
+
+
+def solid_label(spec) -> str:
+    """Legend label of a solid: its material, or ``"part"`` / ``"part (MATERIAL)"`` for an
+    opaque part (``spec.opaque``)."""
+    if getattr(spec, "opaque", False):
+        return "part" if spec.material_name == "opaque" else f"part ({spec.material_name})"
+    return str(spec.material_name)
+
+
+def scene_colors(scene) -> dict[str, str]:
+    """Fill colour per :func:`solid_label` of every solid of ``scene``: the material palette
+    for solids (:func:`material_colors`), greys for parts."""
+    specs = list(scene.solids.values())
+    out = material_colors(solid_label(s) for s in specs if not getattr(s, "opaque", False))
+    for s in specs:
+        if getattr(s, "opaque", False):
+            out[solid_label(s)] = PART_COLOR if solid_label(s) == "part" else PART_MATERIAL_COLOR
+    return out
+
+
 def darker(color, factor: float = 0.55) -> tuple[float, float, float]:
     """The colour scaled towards black (edges of filled solids).
 

@@ -14,7 +14,7 @@ import numpy as np
 from . import _style
 from ._rays import RaySet, prepare_rays
 from ._section import Plane, plane_for, section
-from .colors import darker, material_colors, ray_rgb, wavelength_label
+from .colors import darker, ray_rgb, scene_colors, solid_label, wavelength_label
 
 __all__ = ["draw_2d", "format_gap"]
 
@@ -214,7 +214,7 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
 
     fig, ax = _style.new_axes(ax, figsize=figsize)
     pl = _scene_plane(scene, plane, at)
-    colors = material_colors(s.material_name for s in scene.solids.values())
+    colors = scene_colors(scene)
     rays = prepare_rays(result, min_power=min_power, highlight=highlight)
 
     # extent first: decides the drawing unit
@@ -242,7 +242,7 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
     with _style.style():
         solid_xy = []
         for name, s in scene.solids.items():
-            col = colors[s.material_name]
+            col = colors[solid_label(s)]
             sec = cuts[name]
             if sec.loops:
                 for loop in sec.loops:

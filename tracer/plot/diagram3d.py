@@ -28,7 +28,7 @@ import numpy as np
 from . import _style
 from ._rays import prepare_rays
 from ._section import Plane
-from .colors import darker, material_colors
+from .colors import darker, scene_colors, solid_label
 from .diagram2d import SOLID_ALPHA, _add_rays, _caption, _legend, _rect_corners, _short_signature
 
 __all__ = ["draw_view", "draw_3d_views", "view_plane", "VIEWS"]
@@ -94,7 +94,7 @@ def _draw_solids(ax, scene, plane: Plane, colors, scale):
 
     faces = []
     for s in scene.solids.values():
-        col = colors[s.material_name]
+        col = colors[solid_label(s)]
         for poly, n in zip(s.geometry.face_polygons, s.geometry.face_normals):
             poly = np.asarray(poly, float)
             faces.append((float(plane.depth(poly).mean()), float(np.asarray(n) @ plane.w),
@@ -183,7 +183,7 @@ def draw_view(scene, result=None, *, view="isometric", ax=None, min_power: float
     """
     fig, ax = _style.new_axes(ax, figsize=figsize)
     plane = view_plane(view)
-    colors = material_colors(s.material_name for s in scene.solids.values())
+    colors = scene_colors(scene)
     if rays is None:
         rays = prepare_rays(result, min_power=min_power, highlight=highlight)
     pts = _scene_points(scene, rays)
@@ -262,7 +262,7 @@ def draw_3d_views(scene, result=None, *, min_power: float = 1e-6, highlight=None
             r, c = cells[v]
             draw_view(scene, None, view=v, ax=axes[r, c], rays=rays,
                       span=(widths[c], heights[r]), legend=False, scale_bar=True)
-        colors = material_colors(s.material_name for s in scene.solids.values())
+        colors = scene_colors(scene)
         leg_ax = axes[1, 0]
         hl = rays.highlight.any()
         leg = _legend(leg_ax, scene, rays, colors,

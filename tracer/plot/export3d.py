@@ -21,7 +21,7 @@ from pathlib import Path
 import numpy as np
 
 from ._rays import prepare_rays
-from .colors import material_colors, ray_rgb, wavelength_label
+from .colors import ray_rgb, scene_colors, solid_label, wavelength_label
 from .diagram2d import _rect_corners
 
 __all__ = ["export_glb", "scene_to_trimesh"]
@@ -69,10 +69,10 @@ def scene_to_trimesh(scene, result=None, *, min_power: float = 1e-6, tubes: floa
     from trimesh.visual import TextureVisuals
 
     out = trimesh.Scene()
-    colors = material_colors(s.material_name for s in scene.solids.values())
+    colors = scene_colors(scene)
     for name, s in scene.solids.items():
         mesh = s.geometry.to_trimesh().copy()
-        rgba = _rgba255(colors[s.material_name], SOLID_OPACITY)
+        rgba = _rgba255(colors[solid_label(s)], SOLID_OPACITY)
         mesh.visual = TextureVisuals(material=_material(rgba, s.material_name))
         mesh.metadata["material"] = s.material_name
         out.add_geometry(mesh, geom_name=name, node_name=name)

@@ -7,7 +7,7 @@
 ...     for problem in exc.problems:
 ...         print(problem)
 x.toml: titel: unknown key "titel"; did you mean "title"? (known: ambient, baseline, coatings,
-  detectors, dimension, format, gap_finding, gaps, include, length_unit, materials, requirements, seed,
+  detectors, dimension, format, gap_finding, gaps, include, length_unit, materials, parts, requirements, seed,
   solids, sources, spectrum, title, tolerances, trace)
 
 The format is described key by key in ``docs/scene-format.md``.

@@ -70,7 +70,9 @@ def _check_ranges(build: Build, sources, gaps, header) -> None:
     wl = np.unique(np.asarray(wl))
     check_range(build, "ambient", build.ambient, header.ambient, wl)
     for name, spec in build.solids.items():
-        check_range(build, f"solids.{name}.material", spec.material, spec.material_name, wl)
+        if spec.opaque and spec.material is build.ambient:
+            continue  # a part without a material: nothing of it is traced
+        check_range(build, f"{spec.table_key}.material", spec.material, spec.material_name, wl)
     seen = set()
     for name, gap in gaps.items():
         if gap.medium_name in seen:
@@ -93,6 +95,11 @@ def _check_sources_inside(build: Build, sources):
             if hit:
                 inside = solid.name
                 break
+        if inside is not None and build.solids[inside].opaque:
+            build.problems.error(f"sources.{name}.position",
+                                 f'the source starts inside the opaque part "{inside}", where no '
+                                 "light can travel: move it out of the part")
+            continue
         if inside is not None:
             build.problems.note(f"sources.{name}.position",
                                 f'the source starts inside solid "{inside}" (allowed: its rays begin in '
@@ -107,6 +114,11 @@ def _check_overlaps(build: Build, gaps) -> None:
     joined = {frozenset({g.solid_a, g.solid_b}) for g in gaps.values()}
     for a, b in _overlapping_pairs(build):
         if frozenset({a, b}) in joined:
+            continue
+        if build.solids[a].opaque or build.solids[b].opaque:
+            kind_a = "part" if build.solids[a].opaque else "solid"
+            build.problems.error(build.solid_key(b), f'overlaps {kind_a} "{a}": a part may touch a '
+                                 "solid or another part but not cut into it; move or resize it")
             continue
         build.problems.error(f"solids.{b}", f'overlaps solid "{a}" and no gap joins them; move it, '
                              f"mate it, or declare the joint in [gaps.NAME]")

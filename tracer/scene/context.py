@@ -45,6 +45,11 @@ class Build:
     coating_keys: set[str] = field(default_factory=set)
     solids: dict[str, Any] = field(default_factory=dict)
     solid_keys: set[str] = field(default_factory=set)  # names declared (built or not)
+    part_keys: set[str] = field(default_factory=set)  # the [parts.NAME] among them
+
+    def solid_key(self, name: str) -> str:
+        """Key path of solid or part ``name`` (``solids.NAME`` or ``parts.NAME``)."""
+        return f"{'parts' if name in self.part_keys else 'solids'}.{name}"
     ambient: Any = None
     ambient_name: str = "air"
     spectrum: Any = None

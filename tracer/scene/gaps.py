@@ -144,6 +144,10 @@ def read_gaps(tables: dict[str, Table], build: Build, *, mated, finding) -> dict
             t.error("faces", "a gap joins faces of two different solids")
             continue
         a, b = build.solids[fa[0]], build.solids[fb[0]]
+        if a.opaque or b.opaque:
+            t.error("faces", f'"{(a if a.opaque else b).name}" is an opaque part: light never '
+                             "crosses a gap into a part")
+            continue
         g = measure_gap(a.geometry, fa[2], b.geometry, fb[2])
         limit = max(tolerances.GAP_MAX_ANGLE, (wedge or 0.0) + 1e-6)
         if not _check_facing(t, build, t.path("faces"), g, max_angle=limit, max_separation=max_sep,
@@ -178,7 +182,7 @@ def _discover(build: Build, gaps, pairs, finding, add) -> None:
     medium = resolve_material(build, "gap_finding.medium", medium_name)
     if medium is None:
         return
-    found = find_gaps({n: s.geometry for n, s in build.solids.items()},
+    found = find_gaps({n: s.geometry for n, s in build.solids.items() if not s.opaque},
                       max_separation=finding.max_separation, max_angle=finding.max_angle)
     for c in found:
         if frozenset({(c.solid_a, c.face_a), (c.solid_b, c.face_b)}) in pairs:

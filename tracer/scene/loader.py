@@ -26,7 +26,7 @@ INTERNAL_ERROR = "internal error while loading the scene"
 
 #: Every top-level key and table of format 1.
 TOP_LEVEL_KEYS = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum",
-                  "trace", "gap_finding", "materials", "coatings", "solids", "gaps", "sources",
+                  "trace", "gap_finding", "materials", "coatings", "solids", "parts", "gaps", "sources",
                   "detectors", "requirements", "tolerances", "include", "baseline")
 
 
@@ -187,7 +187,7 @@ def _build(document: dict, problems: Problems, file: str | None, base_dir: Path,
     from .gaps import read_gaps
     from .solids import read_solids
     solid_tables = doc.tables("solids")
-    mated = read_solids(solid_tables, build)
+    mated = read_solids(solid_tables, build, parts=doc.tables("parts"))
     gaps = read_gaps(doc.tables("gaps"), build, mated=mated, finding=finding)
 
     # -- sources, detectors, requirements

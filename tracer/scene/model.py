@@ -156,7 +156,12 @@ class SolidSpec:
         ``uncoated``).
     kind : str
         Catalog kind or construction (``right_angle_prism``, ``polygon``,
-        ``polyhedron``, ``mesh`` ...), for reports.
+        ``polyhedron``, ``mesh``, ``tube`` ...), for reports.
+    opaque : bool
+        An opaque part (``[parts.NAME]``: mount, baffle, housing): it takes part in
+        intersection like any solid but is never entered; the power its faces transmit
+        is absorbed on the face. ``material`` is then the part's bulk (a metal for a
+        specular surface) or the ambient when the file names none.
     """
 
     name: str
@@ -165,6 +170,12 @@ class SolidSpec:
     geometry: Any
     faces: dict[str, FaceTreatment]
     kind: str = "custom"
+    opaque: bool = False
+
+    @property
+    def table_key(self) -> str:
+        """Key path of the solid's table in the scene file (``solids.NAME`` or ``parts.NAME``)."""
+        return f"{'parts' if self.opaque else 'solids'}.{self.name}"
 
 
 @dataclass(frozen=True)

@@ -75,8 +75,12 @@ def face_centroid_normal(solid, index: int) -> tuple[np.ndarray, np.ndarray]:
 
 # ---------------------------------------------------------------------------- shapes
 
-def read_shape(kind: str, t: Table, build: Build):
-    """The solid in its local frame, or ``None`` with problems recorded."""
+def read_shape(kind: str, t: Table, build: Build, extra_kinds: dict | None = None):
+    """The solid in its local frame, or ``None`` with problems recorded.
+
+    ``extra_kinds`` are registry entries accepted besides the prism catalog (the part
+    shapes of :mod:`tracer.geometry.parts`, for ``[parts.NAME]``).
+    """
     try:
         if kind == "polygon":
             return _polygon(t, build)
@@ -84,7 +88,7 @@ def read_shape(kind: str, t: Table, build: Build):
             return _polyhedron(t, build)
         if kind == "mesh":
             return _mesh(t, build)
-        kinds = catalog_kinds()
+        kinds = {**catalog_kinds(), **(extra_kinds or {})}
         if kind in kinds:
             return _catalog(kind, kinds[kind], t, build)
     except TracerError as exc:

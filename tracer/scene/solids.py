@@ -21,6 +21,7 @@ import numpy as np
 
 from .. import tolerances
 from ..errors import TracerError
+from . import parts as part_shapes
 from . import shapes
 from .context import Build, split_face_ref
 from .media import resolve_material
@@ -33,6 +34,8 @@ __all__ = ["read_solids", "MateRequest", "COMMON_SOLID_KEYS"]
 
 #: Keys every solid table may have, whatever its kind.
 COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "note")
+#: Keys a ``[parts.NAME]`` table has besides the solid keys (it has no ``mate``).
+PART_KEYS = ("surface",)
 
 
 @dataclass
@@ -63,25 +66,41 @@ class _Pending:
     material_name: str
     kind: str
     faces: dict
+    opaque: bool = False
 
 
-def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateRequest, object]]:
-    """Build every solid into ``build.solids``; returns the mated pairs (request, None)."""
-    build.solid_keys = set(tables)
+def read_solids(tables: dict[str, Table], build: Build,
+                parts: dict[str, Table] | None = None) -> list[tuple[MateRequest, object]]:
+    """Build every solid and opaque part into ``build.solids``; returns the mated pairs.
+
+    ``parts`` are the ``[parts.NAME]`` tables (see :mod:`tracer.scene.parts`): shaped and
+    placed like solids, never mated, with a ``surface`` treatment on every face.
+    """
+    parts = parts or {}
+    build.part_keys = set(parts)
+    build.solid_keys = set(tables) | set(parts)
     pending: dict[str, _Pending] = {}
     requests: dict[str, MateRequest] = {}
     placements: dict[str, tuple] = {}
-    for name, t in tables.items():
+    for name, t in [*tables.items(), *parts.items()]:
+        is_part = name in parts
+        if is_part and name in tables:
+            t.error(None, f'"{name}" names both a solid and a part: names must be unique')
+            continue
         if "." in name:
             t.error(None, f'a solid name cannot contain "." (faces are written "solid.face"): "{name}"')
-        material_name = t.string("material", required=True)
+        material_name = t.string("material", required=not is_part)
         material = resolve_material(build, t.path("material"), material_name) if material_name else None
         t.string("note")
         kind = t.string("kind", required=True)
-        local = shapes.read_shape(kind, t, build) if kind else None
+        local = (part_shapes.read_part_shape if is_part else shapes.read_shape)(kind, t, build) \
+            if kind else None
         if kind is None:
             t.known(*t.data)
         mate_t = t.table("mate")
+        if is_part and mate_t is not None:
+            t.error("mate", "a part is placed by position, rotation and pivot, not mated")
+            mate_t = None
         if mate_t is not None:
             # the gap this mate declares exists for references even if the mate is broken
             # (its own problem is reported; a requirement naming it must not add another)
@@ -99,11 +118,16 @@ def read_solids(tables: dict[str, Table], build: Build) -> list[tuple[MateReques
             rotation = _read_rotation(t, build)
             pivot = _read_pivot(t, build)
             placements[name] = (position, rotation, pivot)
-        faces = _read_faces(t, local, build, material, material_name)
-        t.finish(context=f'for a solid of kind "{kind}"' if kind else None)
+        faces = _read_faces(t, local, build, material, material_name, part=is_part)
+        if is_part:
+            faces = part_shapes.part_faces(t, local, build, faces, material=material,
+                                           material_name=material_name)
+            if material_name is None:
+                material, material_name = build.ambient, part_shapes.NO_MATERIAL
+        t.finish(context=f'for a {"part" if is_part else "solid"} of kind "{kind}"' if kind else None)
         if local is None or material is None or faces is None:
             continue
-        pending[name] = _Pending(name, t, local, material, material_name, kind, faces)
+        pending[name] = _Pending(name, t, local, material, material_name, kind, faces, is_part)
 
     # free-standing solids
     for name, (position, rotation, pivot) in placements.items():
@@ -141,7 +165,7 @@ def _finish_solid(p: _Pending, geometry, build: Build) -> None:
         return
     faces = {f: p.faces.get(f, FaceTreatment("uncoated")) for f in geometry.face_names}
     build.solids[p.name] = SolidSpec(name=p.name, material=p.material, material_name=p.material_name,
-                                     geometry=geometry, faces=faces, kind=p.kind)
+                                     geometry=geometry, faces=faces, kind=p.kind, opaque=p.opaque)
 
 
 def _check_2d(p: _Pending, geometry) -> bool:
@@ -222,8 +246,9 @@ def _read_rotation(t: Table, build: Build):
     return tuple(float(a) for a in rot)
 
 
-def _read_faces(t: Table, local, build: Build, material, material_name) -> dict | None:
-    """``[solids.NAME.faces.FACE] coating = "..."``."""
+def _read_faces(t: Table, local, build: Build, material, material_name, *,
+                part: bool = False) -> dict | None:
+    """``[solids.NAME.faces.FACE] coating = "..."`` (also ``[parts.NAME.faces.FACE]``)."""
     tables = t.tables("faces")
     names = list(local.face_names) if local is not None else None
     out, ok = {}, True
@@ -248,6 +273,9 @@ def _read_faces(t: Table, local, build: Build, material, material_name) -> dict 
             continue
         if isinstance(treatment, PerSubstrate):
             if material is None:
+                if part and material_name is None:
+                    ft.error("coating", f'coating "{coating}" is designed for the substrate it sits '
+                                        "on, but the part has no material: give it one")
                 ok = False
                 continue
             try:

@@ -50,12 +50,14 @@ def summarize(scene: Scene) -> dict:
             faces[face] = {
                 "treatment": tr.kind if tr else "uncoated",
                 "coating": tr.coating_name if tr else None,
+                "scatter": _scatter_kind(tr),
                 "reflectance": None if tr is None or tr.reflectance is None else _f(tr.reflectance),
                 "normal": _v(g.face_normals[i]),
                 "centroid_m": _v(g.face_centroid(i)),
             }
         solids[name] = {
             "kind": s.kind,
+            "opaque": bool(getattr(s, "opaque", False)),
             "material": s.material_name,
             "volume_m3": _f(g.volume),
             "bounds_m": [_v(b) for b in np.asarray(g.bounds, float)],
@@ -170,7 +172,7 @@ def index_basis_warnings(scene: Scene) -> list[str]:
     mats = (scene.raw or {}).get("materials") or {}
     used: dict[str, list[str]] = {}
     for name, s in scene.solids.items():
-        used.setdefault(s.material_name, []).append(f"solids.{name}")
+        used.setdefault(s.material_name, []).append(s.table_key)
     for name, g in scene.gaps.items():
         used.setdefault(g.medium_name, []).append(f"gaps.{name}")
     where = f"{scene.path}: " if scene.path else ""
@@ -235,6 +237,43 @@ def _threshold(x) -> str:
     return x if isinstance(x, str) else f"{x:g}"
 
 
+#: Scene-file kind of each scatter model class (``[coatings.NAME] kind``).
+_SCATTER_KIND = {"Lambertian": "lambertian", "BlackSurface": "black", "RoughSurface": "rough",
+                 "BsdfTable": "bsdf-table"}
+
+
+def _scatter_kind(treatment) -> str | None:
+    sc = getattr(treatment, "scatter", None)
+    return None if sc is None else _SCATTER_KIND.get(type(sc).__name__, type(sc).__name__)
+
+
+def _face_label(f: dict) -> str:
+    what = f.get("scatter") or f["treatment"]
+    if f["coating"] and f["coating"] != what:
+        what += f" ({f['coating']})"
+    if f["reflectance"] is not None and not f.get("scatter"):
+        what += f", R = {f['reflectance']:g}"
+    return what
+
+
+def _solid_lines(name: str, so: dict) -> list[str]:
+    head = (f"  {name}: {so['kind']}, opaque part" + (f" of {so['material']}" if so["material"] != "opaque" else "")
+            if so.get("opaque") else f"  {name}: {so['kind']} of {so['material']}")
+    lines = [head + f", volume {so['volume_m3'] * 1e9:.6g} mm³"]
+    if so.get("opaque"):  # parts have many faces: one line per treatment
+        groups: dict[str, list[str]] = {}
+        for face, f in so["faces"].items():
+            groups.setdefault(_face_label(f), []).append(face)
+        for what, names in groups.items():
+            shown = ", ".join(names[:6]) + (f", ... ({len(names)} faces)" if len(names) > 6 else "")
+            lines.append(f"    {what}: {shown if len(groups) > 1 or len(names) <= 6 else f'every face ({len(names)})'}")
+        return lines
+    for face, f in so["faces"].items():
+        lines.append(f"    {face}: {_face_label(f)}; normal {_direction(f['normal'])}, centroid "
+                     "[" + ", ".join(f"{v * 1e3 + 0.0:.6g}" for v in f["centroid_m"]) + "] mm")
+    return lines
+
+
 def format_summary(summary: dict) -> str:
     """The summary as readable text (gap thickness in µm)."""
     s = summary
@@ -246,18 +285,15 @@ def format_summary(summary: dict) -> str:
              f"  trace: {s['trace']['mode']}, power threshold {_threshold(s['trace']['power_threshold'])}, "
              f"at most {s['trace']['max_events']} events"
              + (f", design path {' -> '.join(s['trace']['sequence'])}" if s["trace"]["sequence"] else "")]
-    lines.append(f"solids ({len(s['solids'])}):")
-    for name, so in s["solids"].items():
-        lines.append(f"  {name}: {so['kind']} of {so['material']}, "
-                     f"volume {so['volume_m3'] * 1e9:.6g} mm³")
-        for face, f in so["faces"].items():
-            what = f["treatment"]
-            if f["coating"] and f["coating"] != what:
-                what += f" ({f['coating']})"
-            if f["reflectance"] is not None:
-                what += f", R = {f['reflectance']:g}"
-            lines.append(f"    {face}: {what}; normal {_direction(f['normal'])}, centroid "
-                         "[" + ", ".join(f"{v * 1e3 + 0.0:.6g}" for v in f["centroid_m"]) + "] mm")
+    solid_names = [n for n, so in s["solids"].items() if not so.get("opaque")]
+    part_names = [n for n, so in s["solids"].items() if so.get("opaque")]
+    lines.append(f"solids ({len(solid_names)}):")
+    for name in solid_names:
+        lines += _solid_lines(name, s["solids"][name])
+    if part_names:
+        lines.append(f"parts ({len(part_names)}):")
+        for name in part_names:
+            lines += _solid_lines(name, s["solids"][name])
     lines.append(f"gaps ({len(s['gaps'])}):")
     for name, g in s["gaps"].items():
         wedge = f", wedge {units.format_angle(g['wedge_rad'])}" if g["wedge_rad"] else ""

@@ -22,7 +22,7 @@ from .toml_io import FORMAT_VERSION
 __all__ = ["dump", "write", "to_document"]
 
 _ORDER = ("format", "title", "dimension", "length_unit", "ambient", "seed", "spectrum", "trace",
-          "gap_finding", "materials", "coatings", "solids", "gaps", "sources", "detectors",
+          "gap_finding", "materials", "coatings", "solids", "parts", "gaps", "sources", "detectors",
           "requirements", "tolerances")
 
 
@@ -40,7 +40,7 @@ def to_document(scene: Scene, *, relative_to: str | os.PathLike | None = None) -
     if relative_to is not None:
         old_base = Path(scene.path).resolve().parent if scene.path else Path.cwd()
         new_base = Path(relative_to).resolve()
-        for solid in (doc.get("solids") or {}).values():
+        for solid in [*(doc.get("solids") or {}).values(), *(doc.get("parts") or {}).values()]:
             if isinstance(solid, dict) and solid.get("kind") == "mesh" and isinstance(solid.get("path"), str):
                 p = Path(solid["path"])
                 if not p.is_absolute():

@@ -31,7 +31,7 @@ __all__ = ["INCLUDABLE_TABLES", "repository_root", "resolve_includes", "FileTree
            "IncludedDocument", "relocate"]
 
 #: The tables an included file may define.
-INCLUDABLE_TABLES = ("materials", "coatings", "solids")
+INCLUDABLE_TABLES = ("materials", "coatings", "solids", "parts")
 
 
 class IncludedDocument(dict):
