@@ -28,7 +28,7 @@ def corner_factor(a, b, h):
 
 
 def patch_scene(*, rho=0.1, rays=200, scatter_rays=32, share=0.5, mode="tree", rest="absorbed",
-                transmittance=0.0, targets=None, depol=1.0, extra=""):
+                transmittance=0.0, targets=None, depol=1.0, extra="", disk=False):
     tgt = "" if targets is None else f"scatter_targets = {targets!r}\n".replace("'", '"')
     text = f"""
 format = 1
@@ -78,10 +78,9 @@ polarization = {{ kind = "linear", angle = "30 deg" }}
 [detectors.disk]
 position = [{-H}, 0, 0]  # the plate's front face is the plane x = 0
 normal = [1, 0, 0]
-width = "{2 * HALF} mm"
-height = "{2 * HALF} mm"
 pixels = [8, 8]
-""" + extra
+""" + (f'outline = "circle"\ndiameter = "{2 * HALF} mm"\n' if disk else
+       f'width = "{2 * HALF} mm"\nheight = "{2 * HALF} mm"\n') + extra
     return loader.loads(text, path="patch.toml")
 
 
@@ -93,6 +92,56 @@ def test_lambertian_patch_matches_the_configuration_factor():
     assert se > 0
     assert abs(det - expected) < 4 * se + 1e-9 * expected
     assert se < 0.02 * expected  # aiming at the detector makes it precise
+
+
+def test_lambertian_patch_and_a_coaxial_disk():
+    """Configuration factor from a differential area to a parallel coaxial disk of radius r
+    at distance h: F = r^2 / (r^2 + h^2) (Howell, "A Catalog of Radiation Heat Transfer
+    Configuration Factors", 3rd ed., 2010, factor B-13; recalled from memory). The detector
+    is round (``outline = "circle"``); aiming uses a polygon circumscribing it."""
+    for mode, rays in (("tree", 300), ("monte-carlo", 30000)):
+        res = tracer.trace(patch_scene(disk=True, mode=mode, rays=rays))
+        expected = 0.1 * 1.0 * HALF**2 / (HALF**2 + H**2)
+        det = res.detector_power("disk")
+        se = res.detector_standard_error("disk")
+        assert se > 0
+        assert abs(det - expected) < 4 * se, (mode, det, expected, se)
+        assert se < (0.02 if mode == "tree" else 0.1) * expected  # aiming makes it precise
+    # the square of the same width collects more: the disk really is round
+    square = tracer.trace(patch_scene(rays=300)).detector_power("disk")
+    assert square > det * 1.15
+
+
+def test_path_standard_errors_add_up_to_the_detector_error():
+    """A path's standard error from its per-ray squared sums: with one path on the
+    detector (a single scatter event, all on one signature) it equals the detector's."""
+    res = tracer.trace(patch_scene(rays=150))
+    paths = res.paths("disk")
+    assert len(paths) == 1 and paths[0]["scattered"]
+    assert paths[0]["standard_error_w"] == pytest.approx(res.detector_standard_error("disk"),
+                                                         rel=1e-9)
+    s = res.summary()["detectors"]["disk"]
+    assert s["scattered_w"] == pytest.approx(res.detector_power("disk"), rel=1e-12)
+    assert s["paths"][0]["standard_error_w"] == paths[0]["standard_error_w"]
+
+
+def test_split_trace_gives_the_same_scatter_results():
+    """Ray ranges traced apart and merged: same power, scattered power and standard
+    errors (detector and path) as one trace, whatever the number of pieces."""
+    from tracer.sweep import trace_split
+
+    scene = patch_scene(rays=90, mode="tree")
+    one = tracer.trace(scene).summary(max_paths=10**6)
+    for parts in (2, 5):
+        split = trace_split(scene, parts=parts, max_paths=10**6, workers=1)
+        a, b = one["detectors"]["disk"], split["detectors"]["disk"]
+        assert b["power_w"] == pytest.approx(a["power_w"], rel=1e-12)
+        assert b["scattered_w"] == pytest.approx(a["scattered_w"], rel=1e-12)
+        assert b["standard_error_w"] == pytest.approx(a["standard_error_w"], rel=1e-9)
+        assert b["paths"][0]["standard_error_w"] == pytest.approx(
+            a["paths"][0]["standard_error_w"], rel=1e-9)
+        assert split["scattered_faces"]["block.front"] == pytest.approx(
+            one["scattered_faces"]["block.front"], rel=1e-12)
 
 
 def test_plain_and_aimed_sampling_agree_and_errors_fall_as_one_over_root_n():
@@ -261,3 +310,56 @@ def test_faces_that_light_up_the_detector_are_ranked():
     assert r["scattered_w"] == pytest.approx(res.detector_power("disk"))
     assert r["specular_w"] == 0.0
     assert "block.front" in format_scatter_ranking(res, "disk")
+
+
+def test_ghost_table_separates_specular_ghosts_from_scattered_light():
+    """Rest specular: the front face's Fresnel reflection (about 4 %, common practice, no
+    source) comes straight back onto the detector's centre beside the scattered light."""
+    from tracer.analysis.ghosts import ghost_table
+
+    res = tracer.trace(patch_scene(rest="specular", rays=100))
+    table = ghost_table(res, "disk")
+    assert table.design is not None and not table.design.scattered
+    assert table.design_rule == "strongest"
+    scattered = [r for r in table.rows if r.scattered]
+    assert scattered and all("SR" in r.label for r in scattered)
+    assert all(r.standard_error_w > 0 for r in scattered)
+    assert table.scattered_power_w == pytest.approx(sum(r.power_w for r in scattered))
+    assert table.scattered_power_w + table.design_group_power_w + table.specular_ghost_power_w \
+        == pytest.approx(table.power_w, rel=1e-12)
+    assert table.standard_error_w == res.detector_standard_error("disk")
+    text = table.format_text()
+    assert text.index("specular paths:") < text.index("scattered light (paths with a scatter")
+    assert "± s.e. [W]" in text and "one standard error" in text
+    d = table.to_dict()
+    assert d["scattered_paths"] == len(scattered) and d["paths"][0]["scattered"] is False
+    assert "light" in table.to_csv().splitlines()[0]
+    # a detector lit by scattered light only has no design path
+    only = ghost_table(tracer.trace(patch_scene(rays=50)), "disk")
+    assert only.design is None and only.design_rule == "none"
+    assert "no specular path reached it" in only.format_text()
+
+
+def test_max_scattered_power_requirement_judges_the_scattered_light_only():
+    from tracer.analysis.ghosts import ghost_table
+    from tracer.analysis.requirements import evaluate, untraced_power
+
+    # plain sampling: no sampling account, so the bounds are the standard errors alone
+    res = tracer.trace(patch_scene(rest="specular", rays=100, share=0.0))
+    scattered = ghost_table(res, "disk").scattered_power_w
+    se = res.detector_standard_error("disk")
+    total = res.detector_power("disk")
+    assert total > 2 * scattered  # the specular reflection dominates the detector
+    u = untraced_power(res)  # power the event cap cut, which could all be scattered light
+    for limit, verdict in ((scattered + 4 * se + u, "pass"), (scattered - 4 * se, "fail"),
+                           (scattered + se, "inconclusive")):
+        scene = patch_scene(rest="specular", rays=100, share=0.0, extra=f"""
+[requirements.scatter]
+kind = "max_scattered_power"
+detector = "disk"
+limit = "{limit!r} W"
+""")
+        v, = evaluate(tracer.trace(scene))
+        assert v.value == pytest.approx(scattered, rel=1e-12)
+        assert v.verdict == verdict, (limit, v)
+        assert "scattered power on disk" in v.describe()

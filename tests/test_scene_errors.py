@@ -335,3 +335,22 @@ def test_huge_direction_components_give_a_unit_vector_not_nan():
     d = sc.sources["beam"].direction
     assert d.tolist() == [0.0, 1.0, 0.0]
     assert all(abs(v) <= 1 for v in sc.sources["beam"].x_axis)
+
+
+# ---------------------------------------------------------------- detector outlines
+def test_circular_detector_takes_a_diameter_only():
+
+
+    doc = base()
+    doc["detectors"]["screen"].update(outline="circle")
+    probs = problems(doc)
+    assert find(probs, "detectors.screen.width", 'takes "diameter"')
+    assert find(probs, "detectors.screen", 'missing key "diameter"')
+    del doc["detectors"]["screen"]["width"]
+    doc["detectors"]["screen"]["diameter"] = "12 mm"
+    assert problems(doc) == []
+    doc["detectors"]["screen"]["outline"] = "circel"
+    assert find(problems(doc), "detectors.screen.outline", 'did you mean "circle"')
+    doc = base()
+    doc["detectors"]["screen"]["diameter"] = "12 mm"
+    assert find(problems(doc), "detectors.screen.diameter", 'applies to outline = "circle"')

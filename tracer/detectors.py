@@ -62,6 +62,7 @@ __all__ = [
     "DetectorError",
     "plane_frame",
     "plane_hits",
+    "inside_outline",
     "pixel_edges",
     "far_field_angles",
     "far_field_edges",
@@ -117,6 +118,28 @@ def _check_pixels(det):
     return int(px[0]), int(px[1])
 
 
+def inside_outline(u, v, half, round_):
+    """Whether local points lie on a detector: within the rectangle of half sizes ``half``,
+    or, where ``round_``, within the ellipse of those semi-axes (a disk when equal).
+
+    Parameters
+    ----------
+    u, v : (N,) float [m]
+        Local coordinates along the detector's x and y axes.
+    half : (2,) or (N, 2) float [m]
+    round_ : bool or (N,) bool
+
+    >>> inside_outline(np.array([0.9, 0.8]), np.array([0.0, 0.8]), np.array([1.0, 1.0]), True)
+    array([ True, False])
+    """
+    half = np.asarray(half, dtype=float)
+    hx, hy = half[..., 0], half[..., 1]
+    box = (np.abs(u) <= hx) & (np.abs(v) <= hy)
+    with np.errstate(over="ignore", invalid="ignore"):  # far misses overflow: outside
+        disk = (u / hx) ** 2 + (v / hy) ** 2 <= 1.0
+    return np.where(round_, disk, box)
+
+
 def plane_hits(det, origins, directions, *, t_min=0.0):
     """Where rays cross a plane detector.
 
@@ -152,8 +175,8 @@ def plane_hits(det, origins, directions, *, t_min=0.0):
     ok = facing & (t > t_min) & np.isfinite(t)
     q = o + np.where(ok, t, 0.0)[:, None] * d - p0
     u, v = q @ x, q @ y
-    w, h = float(det.size[0]), float(det.size[1])
-    ok &= (np.abs(u) <= 0.5 * w) & (np.abs(v) <= 0.5 * h)
+    half = 0.5 * np.asarray(det.size, dtype=float)
+    ok &= inside_outline(u, v, half, getattr(det, "outline", "rectangle") == "circle")
     t = np.where(ok, t, np.inf)
     return t, np.where(ok, u, np.nan), np.where(ok, v, np.nan), ok
 

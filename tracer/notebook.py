@@ -123,11 +123,12 @@ def ghost_table_html(table, *, limit: int = GHOST_ROWS) -> str:
     rows = []
     for r in table.rows[:limit]:
         mark = "*" if r.design else ("=" if r.equivalent else "")
-        rows.append((f"{r.rank}{mark}", f"{r.power_w:.4g}", _pct(r.fraction),
+        se = f"{r.standard_error_w:.2g}" if r.standard_error_w > 0 else "-"
+        rows.append((f"{r.rank}{mark}", r.light, f"{r.power_w:.4g}", se, _pct(r.fraction),
                      "-" if r.ratio is None else f"{r.ratio:.4g}", str(r.reflections), r.label))
     more = (f"<p>... {len(table.rows) - limit} weaker paths</p>" if len(table.rows) > limit else "")
-    return (_STYLE + head + _table(("rank", "power [W]", "of source", "to design", "refl", "path"),
-                                   rows) + more)
+    return (_STYLE + head + _table(("rank", "light", "power [W]", "± s.e. [W]", "of source",
+                                    "to design", "refl", "path"), rows) + more)
 
 
 def verdicts_html(verdicts) -> str:

@@ -24,8 +24,18 @@ ghost. The design path is chosen as follows:
 2. otherwise, or when no path on the detector follows the sequence, the strongest path
    on the detector.
 
-``design_rule`` in the table says which rule applied: ``"sequence"`` or ``"strongest"``
-(``"none"`` when the detector received nothing).
+Only specular paths (no scatter event) can be the design path: scattered light is never
+the design signal. ``design_rule`` in the table says which rule applied: ``"sequence"``
+or ``"strongest"`` (``"none"`` when no specular path reached the detector).
+
+Specular ghosts and scattered light
+-----------------------------------
+Paths with a scatter event (codes ``SR``, ``ST`` in labels) are *scattered light*; the
+other paths outside the design group are *specular ghosts*. The table keeps one ranking
+by power but prints the two kinds in separate sections, and gives their sums apart
+(``specular_ghost_power_w``, ``scattered_power_w``; ``ghost_power_w`` is both). Scattered
+powers rest on sampling: each row carries its standard error (``standard_error_w``, from
+the spread over source rays), and so does the table (the detector's).
 
 Path labels
 -----------
@@ -60,7 +70,7 @@ SPOT_HEADER = ("x [mm]", "y [mm]", "rms [mm]", "DoP")
 
 #: Event kind name -> code used in labels (same codes as the path tree's signatures).
 EVENT_CODES = {"transmit": "T", "reflect": "R", "TIR": "TIR", "tunnel": "FT", "absorb": "A",
-               "detect": "D"}
+               "detect": "D", "scatter-r": "SR", "scatter-t": "ST"}
 _REFLECTING = ("reflect", "TIR")
 _TRANSMITTING = ("transmit", "tunnel")
 
@@ -97,6 +107,12 @@ class GhostRow:
     equivalent : bool
         True for a path equivalent to the design path (same faces and events in another
         order: part of the design signal, not a ghost).
+    scattered : bool
+        True for a path with at least one scatter event (scattered light; else a
+        specular path).
+    standard_error_w : float [W]
+        Standard error of the power where it rests on sampling (scatter in tree mode,
+        every path in Monte Carlo mode); 0 for an exact path.
     """
 
     rank: int
@@ -112,6 +128,15 @@ class GhostRow:
     dop: float | None
     design: bool
     equivalent: bool = False
+    scattered: bool = False
+    standard_error_w: float = 0.0
+
+    @property
+    def light(self) -> str:
+        """``"design"`` (the design group), ``"specular ghost"`` or ``"scattered"``."""
+        if self.scattered:
+            return "scattered"
+        return "specular ghost" if self.ghost else "design"
 
     @property
     def ghost(self) -> bool:
@@ -126,7 +151,8 @@ class GhostRow:
             centroid_m=None if self.centroid is None else [float(c) for c in self.centroid],
             rms_radius_m=finite_or_none(self.rms_radius),
             degree_of_polarization=finite_or_none(self.dop), design=self.design,
-            equivalent_to_design=self.equivalent,
+            equivalent_to_design=self.equivalent, scattered=self.scattered,
+            standard_error_w=float(self.standard_error_w),
         )
 
     def spot_cells(self) -> list[str]:
@@ -155,6 +181,8 @@ class GhostTable:
         Hits on the detector not kept individually (the trace's ``max_hits`` was
         reached): powers and ranks are complete, but the landing columns (centroid, RMS
         radius, degree of polarisation) cover only the kept hits.
+    standard_error_w : float [W]
+        Standard error of the detector's sampled power (0 when none is sampled).
     """
 
     detector: str
@@ -164,6 +192,7 @@ class GhostTable:
     design_rule: str
     rows: list = field(default_factory=list)
     hits_dropped: int = 0
+    standard_error_w: float = 0.0
 
     def _repr_html_(self) -> str:  # Jupyter (tracer.notebook)
         from ..notebook import ghost_table_html
@@ -187,8 +216,20 @@ class GhostTable:
 
     @property
     def ghost_power_w(self) -> float:
-        """Power of every path outside the design group [W]."""
+        """Power of every path outside the design group [W]: specular ghosts and
+        scattered light."""
         return float(sum(r.power_w for r in self.rows if r.ghost))
+
+    @property
+    def specular_ghost_power_w(self) -> float:
+        """Power of the specular ghosts [W]: paths outside the design group with no
+        scatter event."""
+        return float(sum(r.power_w for r in self.rows if r.ghost and not r.scattered))
+
+    @property
+    def scattered_power_w(self) -> float:
+        """Power of the paths with at least one scatter event [W]."""
+        return float(sum(r.power_w for r in self.rows if r.scattered))
 
     @property
     def ghost_fraction(self) -> float:
@@ -217,13 +258,18 @@ class GhostTable:
             design_group_paths=sum(1 for r in self.rows if not r.ghost),
             ghost_power_w=self.ghost_power_w,
             ghost_fraction=finite_or_none(self.ghost_fraction),
+            specular_ghost_power_w=self.specular_ghost_power_w,
+            scattered_power_w=self.scattered_power_w,
+            scattered_paths=sum(1 for r in self.rows if r.scattered),
+            standard_error_w=float(self.standard_error_w),
             paths_total=len(self.rows), paths=[r.to_dict() for r in rows],
             hits_dropped=int(self.hits_dropped),
         )
 
+    # new columns go at the end: scripts reading the earlier ones by position keep working
     CSV_COLUMNS = ("rank", "design", "power_w", "fraction_of_source", "ratio_to_design",
                    "reflections", "rays", "centroid_x_m", "centroid_y_m", "rms_radius_m",
-                   "degree_of_polarization", "label", "signature")
+                   "degree_of_polarization", "label", "signature", "light", "standard_error_w")
 
     def to_csv(self, limit: int | None = None) -> str:
         """CSV text, one row per path (columns :attr:`CSV_COLUMNS`)."""
@@ -235,35 +281,53 @@ class GhostTable:
                         r.power_w, r.fraction,
                         finite_or_none(r.ratio), r.reflections, r.rays, cx, cy,
                         finite_or_none(r.rms_radius), finite_or_none(r.dop), r.label,
-                        r.signature])
+                        r.signature, r.light, r.standard_error_w])
         return csv_text(list(self.CSV_COLUMNS), out)
 
     def format_text(self, limit: int | None = 20) -> str:
-        """Aligned text table with a heading (at most ``limit`` rows)."""
+        """Aligned text table with a heading (at most ``limit`` rows): the specular paths
+        (design group and specular ghosts), then the scattered light, each strongest
+        first with its overall rank."""
         rows = self.rows if limit is None else self.rows[:limit]
         head = (f"detector {self.detector}: {fmt_sci(self.power_w)} W "
                 f"({fmt_fraction(self.power_w / self.source_power_w if self.source_power_w else 0)}"
                 f" of source), {len(self.rows)} path{'s' if len(self.rows) != 1 else ''}")
         if not self.rows:
             return head + "\n  (no light reached this detector)"
-        rule = {"sequence": "the declared sequence", "strongest": "the strongest path"}[self.design_rule]
-        head += f"; design path = {rule} (marked *)"
+        rule = {"sequence": "the declared sequence", "strongest": "the strongest specular path",
+                "none": "none (no specular path reached it)"}[self.design_rule]
+        head += f"; design path = {rule}" + (" (marked *)" if self.design is not None else "")
         plane = self.kind == "plane"
-        header = ["rank", "power [W]", "of source", "to design", "refl"]
+        sampled = any(r.standard_error_w > 0 for r in self.rows)
+        header = ["rank", "power [W]"] + (["± s.e. [W]"] if sampled else []) + [
+            "of source", "to design", "refl"]
         if plane:
             header += SPOT_HEADER
         header.append("path")
-        body = []
-        for r in rows:
+
+        def cells(r):
             mark = "*" if r.design else ("=" if r.equivalent else " ")
-            cells = [f"{r.rank}{mark}", fmt_sci(r.power_w),
-                     fmt_fraction(r.fraction), fmt_sci(r.ratio) if not r.design else "1",
-                     str(r.reflections)]
+            out = [f"{r.rank}{mark}", fmt_sci(r.power_w)]
+            if sampled:
+                out.append(fmt_sci(r.standard_error_w) if r.standard_error_w > 0 else "-")
+            out += [fmt_fraction(r.fraction),
+                    fmt_sci(r.ratio) if not r.design and r.ratio is not None
+                    else ("1" if r.design else "-"),
+                    str(r.reflections)]
             if plane:
-                cells += r.spot_cells()
-            cells.append(r.label)
-            body.append(cells)
-        text = head + "\n" + format_table(header, body, indent="  ")
+                out += r.spot_cells()
+            out.append(r.label)
+            return out
+
+        specular = [r for r in rows if not r.scattered]
+        scattered = [r for r in rows if r.scattered]
+        text = head
+        if specular:
+            text += "\n  specular paths:\n" + format_table(header, [cells(r) for r in specular],
+                                                          indent="  ")
+        if scattered:
+            text += ("\n  scattered light (paths with a scatter event; sampled):\n"
+                     + format_table(header, [cells(r) for r in scattered], indent="  "))
         if limit is not None and len(self.rows) > limit:
             rest = sum(r.power_w for r in self.rows[limit:])
             text += f"\n  ... {len(self.rows) - limit} weaker paths, {fmt_sci(rest)} W together"
@@ -273,8 +337,18 @@ class GhostTable:
             text += (f"\n  = {n_eq} path{'s' if n_eq != 1 else ''} equivalent to the design path "
                      f"(same faces and events in another order): design signal "
                      f"{fmt_sci(self.design_group_power_w)} W")
-        text += (f"\n  ghost power {fmt_sci(self.ghost_power_w)} W = "
-                 f"{fmt_sci(gf) if math.isfinite(gf) else 'inf'} of the design signal")
+        if any(r.scattered for r in self.rows):
+            sig = self.design_group_power_w
+            ratio = (lambda w: f" = {fmt_sci(w / sig)} of the design signal") if sig > 0 else (
+                lambda w: "")
+            text += (f"\n  specular ghosts {fmt_sci(self.specular_ghost_power_w)} W"
+                     f"{ratio(self.specular_ghost_power_w)}"
+                     f"\n  scattered light {fmt_sci(self.scattered_power_w)} W"
+                     f" ± {fmt_sci(self.standard_error_w)} W (one standard error)"
+                     f"{ratio(self.scattered_power_w)}")
+        else:
+            text += (f"\n  ghost power {fmt_sci(self.ghost_power_w)} W = "
+                     f"{fmt_sci(gf) if math.isfinite(gf) else 'inf'} of the design signal")
         if self.hits_dropped > 0:
             text += "\n" + self.dropped_warning()
         return text
@@ -500,12 +574,16 @@ def ghost_table(result, detector: str) -> GhostTable:
     if paths:
         if sequence is not None:
             for i, p in enumerate(paths):
+                if p.get("scattered"):
+                    continue
                 if matches_sequence(p["events"], sequence, detector=detector,
                                     detector_names=result.detector_names):
                     design_index, rule = i, "sequence"
                     break
         if design_index is None:
-            design_index, rule = 0, "strongest"
+            # the strongest specular path: scattered light is never the design signal
+            design_index = next((i for i, p in enumerate(paths) if not p.get("scattered")), None)
+            rule = "strongest" if design_index is not None else "none"
     design_power = paths[design_index]["power_w"] if design_index is not None else 0.0
     design_events = (_event_multiset(paths[design_index]["events"])
                      if design_index is not None else None)
@@ -528,10 +606,14 @@ def ghost_table(result, detector: str) -> GhostTable:
             equivalent=(i != design_index and design_events is not None
                         and _event_multiset(p["events"]) == design_events
                         and src == paths[design_index]["signature"].split(" > ", 1)[0]),
+            scattered=bool(p.get("scattered", False)),
+            standard_error_w=float(p.get("standard_error_w", 0.0)),
         ))
     return GhostTable(detector=detector, kind="plane" if plane else "far_field",
                       source_power_w=src_power, power_w=total, design_rule=rule, rows=rows,
-                      hits_dropped=int(dropped))
+                      hits_dropped=int(dropped),
+                      standard_error_w=float(result.detector_standard_error(detector))
+                      if hasattr(result, "detector_standard_error") else 0.0)
 
 
 def ghost_tables(result) -> dict[str, GhostTable]:

@@ -57,8 +57,10 @@ __all__ = ["Verdict", "evaluate", "format_verdicts", "all_passed", "verdict_of",
 VERDICTS = ("pass", "inconclusive", "fail")
 
 _WHAT = {"min_power": "power on {}", "max_power": "power on {}",
+         "max_scattered_power": "scattered power on {}",
          "max_ghost_fraction": "ghost fraction on {}", "max_leakage": "leakage through {}"}
-_SHORT = {"min_power": "power", "max_power": "power", "max_ghost_fraction": "ghost fraction",
+_SHORT = {"min_power": "power", "max_power": "power", "max_scattered_power": "scattered power",
+          "max_ghost_fraction": "ghost fraction",
           "max_leakage": "leakage"}
 
 #: What to do about an inconclusive verdict.
@@ -98,7 +100,8 @@ class Verdict:
     ----------
     name : str
     kind : str
-        ``min_power``, ``max_power``, ``max_ghost_fraction`` or ``max_leakage``.
+        ``min_power``, ``max_power``, ``max_scattered_power``, ``max_ghost_fraction`` or
+        ``max_leakage``.
     subject : str
         The detector or gap it is about.
     value : float
@@ -243,8 +246,14 @@ def evaluate(result, *, ghosts: dict | None = None) -> list[Verdict]:
     out = []
     for spec in (getattr(result.scene, "requirements", {}) or {}).values():
         limit = float(spec.limit)
-        if spec.kind in ("min_power", "max_power"):
-            p = float(result.detector_power(spec.detector))
+        if spec.kind in ("min_power", "max_power", "max_scattered_power"):
+            if spec.kind == "max_scattered_power":
+                table = ghosts.get(spec.detector)
+                if table is None:
+                    table = ghosts[spec.detector] = ghost_table(result, spec.detector)
+                p = float(table.scattered_power_w)
+            else:
+                p = float(result.detector_power(spec.detector))
             k = _sigma(result, spec.detector)
             if spec.relative:
                 scale = 1.0 / src if src else 0.0

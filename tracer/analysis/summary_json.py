@@ -133,6 +133,12 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         d = table.to_dict(limit=max_paths)
         d.pop("detector")
         d["behind_w"] = float(res.behind_power(name)) if hasattr(res, "behind_power") else 0.0
+        if table.kind == "plane" and hasattr(res, "paths"):
+            from .scatter_sources import scatter_ranking
+
+            d["scatter_sources"] = scatter_ranking(res, name)["faces"]
+        else:
+            d["scatter_sources"] = []
         near = res.untraced_near(name) if hasattr(res, "untraced_near") else None
         d["untraced_near_w"] = None if near is None else float(near[0])
         d["untraced_near_solids"] = None if near is None else list(near[1])
@@ -166,6 +172,9 @@ def run_summary(analysis: RunAnalysis, *, max_paths: int = 50) -> dict:
         ledger=ledger,
         budget=[r.to_dict() for r in budget.rows],
         gaps={name: dict(g) for name, g in budget.tunnelled.items()},
+        scatter=dict(
+            scattered_faces=(res.scattered_power() if hasattr(res, "scattered_power") else {}),
+            sampling_w=float(budget.totals.get("sampling_w", 0.0))),
         hits_dropped=int(getattr(res, "hits_dropped", 0)),
         requirements=[_verdict_dict(v, scene) for v in analysis.verdicts],
         passed=analysis.passed,

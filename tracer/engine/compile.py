@@ -72,6 +72,7 @@ class CompiledScene:
     det_x: np.ndarray
     det_y: np.ndarray
     det_half: np.ndarray  # (D, 2)
+    det_round: np.ndarray  # (D,) bool: a disk (ellipse of semi-axes det_half), else a rectangle
     det_two_sided: np.ndarray
     far_fields: list  # DetectorSpec of far-field detectors
     face_index: dict = field(default_factory=dict)
@@ -191,6 +192,7 @@ def compile_scene(scene) -> CompiledScene:
 
     # detectors ---------------------------------------------------------------------
     det_names, dpos, dnor, dx, dy, dhalf, dtwo, far = [], [], [], [], [], [], [], []
+    dround = []
     for dname, d in scene.detectors.items():
         if d.kind == "far_field":
             far.append(d)
@@ -205,6 +207,7 @@ def compile_scene(scene) -> CompiledScene:
         dy.append(np.cross(n, x))
         dhalf.append(np.asarray(d.size, dtype=float) / 2)
         dtwo.append(bool(d.two_sided))
+        dround.append(getattr(d, "outline", "rectangle") == "circle")
     D = len(det_names)
     all_names = face_names + det_names
     face_opaque = np.array([bool(scene.solids[names[s]].opaque) for s in face_solid] + [False] * D,
@@ -303,6 +306,7 @@ def compile_scene(scene) -> CompiledScene:
         det_x=np.array(dx).reshape(D, 3),
         det_y=np.array(dy).reshape(D, 3),
         det_half=np.array(dhalf).reshape(D, 2),
+        det_round=np.array(dround, dtype=bool),
         det_two_sided=np.array(dtwo, dtype=bool),
         far_fields=far,
         face_index=index,
@@ -312,7 +316,7 @@ def compile_scene(scene) -> CompiledScene:
         scatter_models=scatter_models,
         scatter_names=scatter_names,
         scatter_targets=_scatter_targets(scene, index, n_faces, geoms, names, det_names,
-                                         dpos_a, dx, dy, dhalf) if scatter_models else None,
+                                         dpos_a, dx, dy, dhalf, dround) if scatter_models else None,
     )
 
 
@@ -338,10 +342,12 @@ def _scatter_faces(treat, names, face_gap, gaps):
     return face_scatter, models, model_names
 
 
-def _scatter_targets(scene, index, n_faces, geoms, names, det_names, dpos, dx, dy, dhalf):
+def _scatter_targets(scene, index, n_faces, geoms, names, det_names, dpos, dx, dy, dhalf,
+                     dround):
     """Triangles of the scatter targets (``trace.scatter_targets``; default every plane
     detector), or ``None`` when there are none."""
-    from ..scatter.targets import Targets, polygon_triangles, rectangle_triangles
+    from ..scatter.targets import (Targets, ellipse_triangles, polygon_triangles,
+                                   rectangle_triangles)
 
     wanted = scene.settings.scatter_targets
     if wanted is None:
@@ -350,7 +356,10 @@ def _scatter_targets(scene, index, n_faces, geoms, names, det_names, dpos, dx, d
     for name in wanted:
         if name in det_names:
             d = det_names.index(name)
-            tris.append(rectangle_triangles(dpos[d], dx[d], dy[d], dhalf[d]))
+            if dround[d]:
+                tris.append(ellipse_triangles(dpos[d], dx[d], dy[d], dhalf[d]))
+            else:
+                tris.append(rectangle_triangles(dpos[d], dx[d], dy[d], dhalf[d]))
             continue
         f = index.get(name)
         if f is None or f >= n_faces:

@@ -96,6 +96,7 @@ class KernelScene:
         self.det_y = np.ascontiguousarray(cs.det_y[:D], dtype=f8).reshape(-1, 3)
         self.det_half = np.ascontiguousarray(cs.det_half[:D], dtype=f8).reshape(-1, 2)
         self.det_two = np.ascontiguousarray(cs.det_two_sided[:D], dtype=np.bool_).reshape(-1)
+        self.det_round = np.ascontiguousarray(cs.det_round[:D], dtype=np.bool_).reshape(-1)
         self.n_faces = int(cs.n_faces)
         self.meshes = [int(s) for s in np.nonzero(~self.convex)[0]]
 
@@ -270,7 +271,7 @@ def solid_hits(origin, direction, medium, last_face, planes, pface, nplanes, con
 
 @njit
 def detector_hits(origin, direction, medium, det_pos, det_normal, det_off, det_x, det_y,
-                  det_half, det_two, n_faces, t_out, face_out):
+                  det_half, det_two, det_round, n_faces, t_out, face_out):
     """Let the nearest plane detector of each ray replace its face hit where it comes first.
 
     A ray inside a solid must be more than ``PLANE_EPS`` short of the detector, a ray
@@ -307,7 +308,13 @@ def detector_hits(origin, direction, medium, det_pos, det_normal, det_off, det_x
             rz = (oz + td * dz) - det_pos[k, 2]
             u = rx * det_x[k, 0] + ry * det_x[k, 1] + rz * det_x[k, 2]
             v = rx * det_y[k, 0] + ry * det_y[k, 1] + rz * det_y[k, 2]
-            if abs(u) <= det_half[k, 0] and abs(v) <= det_half[k, 1] and td < bt:
+            if det_round[k]:
+                a = u / det_half[k, 0]
+                c = v / det_half[k, 1]
+                inb = a * a + c * c <= 1.0
+            else:
+                inb = abs(u) <= det_half[k, 0] and abs(v) <= det_half[k, 1]
+            if inb and td < bt:
                 bt = td
                 bd = k
         if bd >= 0:

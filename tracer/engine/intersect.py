@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..detectors import inside_outline
 from ..tolerances import PLANE_EPS, RAY_OFFSET
 from . import hit_kernel, jit
 from .compile import CompiledScene
@@ -387,7 +388,8 @@ def _nearest_hit_compiled(cs, origin, direction, medium, last_face):
         _merge_meshes(cs, ks, origin, direction, medium, t, face, solid)
     if len(cs.detector_names):
         hit_kernel.detector_hits(origin, direction, medium, ks.det_pos, ks.det_normal, ks.det_off,
-                                 ks.det_x, ks.det_y, ks.det_half, ks.det_two, ks.n_faces, t,
+                                 ks.det_x, ks.det_y, ks.det_half, ks.det_two, ks.det_round,
+                                 ks.n_faces, t,
                                  face)
     return t, face
 
@@ -468,7 +470,7 @@ def _nearest_hit_numpy(cs, origin, direction, medium, last_face):
                 rel[:, a] -= cs.det_position[di, a]
             u = _dot(rel, cs.det_x[di])
             v = _dot(rel, cs.det_y[di])
-            inb = (np.abs(u) <= cs.det_half[di, 0]) & (np.abs(v) <= cs.det_half[di, 1])
+            inb = inside_outline(u, v, cs.det_half[di], cs.det_round[di])
             ri, di, tp = ri[inb], di[inb], tp[inb]
             if D > 1 and len(ri):  # nearest detector per ray (lowest index on ties)
                 order = np.lexsort((di, tp, ri))

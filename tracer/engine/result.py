@@ -41,7 +41,7 @@ import numpy as np
 from ..tolerances import PATH_POWER_TIE_DIGITS
 from .paths import DETECT, KIND_NAMES
 
-__all__ = ["Result", "path_rank_key"]
+__all__ = ["Result", "path_rank_key", "path_standard_error"]
 
 
 def path_rank_key(power, signature):
@@ -53,6 +53,32 @@ def path_rank_key(power, signature):
     [(2.0, 'c'), (1.0, 'a'), (1.000000000000001, 'b')]
     """
     return (-float(f"{float(power):.{PATH_POWER_TIE_DIGITS - 1}e}"), str(signature))
+
+
+def path_standard_error(power, sum_sq, rays) -> float:
+    """Standard error [W] of a path's sampled power.
+
+    Parameters
+    ----------
+    power : float [W]
+        The path's power: the sum over the source's rays of the power each put on it.
+    sum_sq : float [W^2]
+        The sum over those rays of the squared power each put on it (0 when the path
+        rests on no sampling: tree mode without a scatter event on it).
+    rays : int
+        Source rays of the path's source (each an independent sample).
+
+    ``sqrt((N sum x^2 - (sum x)^2) / (N - 1))``: the standard error of a sum of N
+    independent samples, the same estimator as :meth:`Ledger.standard_error`.
+
+    >>> path_standard_error(2.0, 2.0, 4)   # x = 1, 1, 0, 0: var 1/3 per ray, sum 4/3
+    1.1547005383792515
+    >>> path_standard_error(1.0, 0.0, 10)  # exact path
+    0.0
+    """
+    if not sum_sq > 0 or rays < 2:
+        return 0.0
+    return float(np.sqrt(max(rays * sum_sq - power * power, 0.0) / (rays - 1)))
 
 
 class Result:
@@ -311,13 +337,19 @@ class Result:
         for n in self.path_nodes(detector):
             ev = t.events(n)
             i = self._slot[int(n)]
+            power = float(self._nodes["power"][i])
+            sum_sq = float(self._nodes["sum_sq"][i])
             out.append(dict(
                 signature=t.signature(n),
-                power_w=float(self._nodes["power"][i]),
+                power_w=power,
                 reflections=t.reflections(n),
                 rays=int(self._nodes["count"][i]),
                 events=[(t.face_names[f], KIND_NAMES[k]) for f, k in ev],
                 node=int(n),
+                scattered=bool(t.scatters[int(n)] > 0),
+                standard_error_w=path_standard_error(
+                    power, sum_sq, int(self.ledger.rays[int(t.root[int(n)])])),
+                sum_sq_w2=sum_sq,
             ))
         return out
 
@@ -467,7 +499,13 @@ class Result:
         crossed_w, tunnelled_w, refracted_w, a_to_b_w, b_to_a_w (of the tunnelled power),
         ``crossed``/``tunnelled``/``refracted`` -> a_to_b_w, b_to_a_w [W], per_source ->
         crossed_w, tunnelled_w, refracted_w; see :meth:`crossed_power`) and
-        ``hits_dropped`` (see :attr:`hits_dropped`).
+        ``hits_dropped`` (see :attr:`hits_dropped`). Sampled scatter: per detector
+        ``scattered_w`` (power of its paths that met a scatter event), ``standard_error_w``
+        and the raw ``sampled_moments`` (source -> [sum, sum of squares] over its rays) with
+        the top-level ``sampled_rays`` (source -> rays counted), per path ``scattered``,
+        ``standard_error_w`` and ``sum_sq_w2`` (so that summaries of disjoint ray sets
+        merge exactly, :func:`tracer.sweep.split_trace.merge_summaries`), and
+        ``scattered_faces`` (face -> power scattered there [W]).
         """
         led = self.ledger
         out = dict(
@@ -482,13 +520,18 @@ class Result:
                      for i, n in enumerate(led.sources)},
             detectors={},
         )
-        for name in self.compiled.detector_names:
+        for di, name in enumerate(self.compiled.detector_names):
             ps = self.paths(name)
             out["detectors"][name] = dict(
                 kind="plane",
                 power_w=self.detector_power(name),
+                scattered_w=float(sum(p["power_w"] for p in ps if p["scattered"])),
+                standard_error_w=self.detector_standard_error(name),
+                sampled_moments={n: [float(led.sampled[i, di, 0]), float(led.sampled[i, di, 1])]
+                                 for i, n in enumerate(led.sources)},
                 hits=int(sum(p["rays"] for p in ps)),
-                paths=[{k: p[k] for k in ("signature", "power_w", "reflections", "rays")}
+                paths=[{k: p[k] for k in ("signature", "power_w", "reflections", "rays",
+                                          "scattered", "standard_error_w", "sum_sq_w2")}
                        for p in ps[:max_paths]],
                 paths_total=len(ps),
                 hits_dropped=self.hits_dropped_on(name),
@@ -521,6 +564,8 @@ class Result:
                             for i, n in enumerate(led.sources)},
             )
         out["hits_dropped"] = self.hits_dropped
+        out["sampled_rays"] = {n: int(led.rays[i]) for i, n in enumerate(led.sources)}
+        out["scattered_faces"] = self.scattered_power()
         return out
 
     def __repr__(self) -> str:

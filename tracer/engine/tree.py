@@ -33,6 +33,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import polarization as pol
+from ..detectors import inside_outline
 from ..tolerances import PLANE_EPS
 from . import children_kernel, detect_kernel, hash_kernel, jit, scatter_event
 from .batch import RayBatch, SourceTable
@@ -104,6 +105,9 @@ class Recorder:
         self._n_slots = 0
         self._slot_node = np.zeros(0, dtype=np.int64)
         self._agg = np.zeros((0, 23))  # power, count, p0, stokes(4), mueller(16)
+        # per slot: sum over source rays of the squared sampled power each put on the
+        # path, for the path's standard error (:meth:`add_path_squares`)
+        self._sq = np.zeros(0)
         self._node_esc = np.zeros(0)
         self.far: list[dict] = []
         self.n_far = 0
@@ -145,6 +149,9 @@ class Recorder:
                 sn = np.zeros(cap, dtype=np.int64)
                 sn[: len(self._slot_node)] = self._slot_node
                 self._slot_node = sn
+                sq = np.zeros(cap)
+                sq[: len(self._sq)] = self._sq
+                self._sq = sq
             self._slot_node[ids] = nodes
             self._n_slots = need
 
@@ -184,6 +191,30 @@ class Recorder:
                 stokes=stokes[sl], jones=jones[sl], source=source[sl], ray_id=ray_id[sl],
             ))
             self.n_hits += keep
+
+    def add_path_squares(self, node, root, power) -> None:
+        """Fold one launch batch's sampled detections into the per-path squared sums.
+
+        Parameters
+        ----------
+        node : (H,) int
+            Detection node (path) of each sampled hit.
+        root : (H,) int
+            Source ray (row of the launch table) of each hit.
+        power : (H,) float [W]
+            Power of each hit.
+
+        The hits of one source ray on one path are summed first: the source ray is the
+        independent sample, the hits of its tree are not.
+        """
+        if len(node) == 0:
+            return
+        node = np.asarray(node, dtype=np.int64)
+        root = np.asarray(root, dtype=np.int64)
+        pairs, inv = np.unique(np.stack([node, root], axis=1), axis=0, return_inverse=True)
+        per_pair = np.bincount(inv.reshape(-1), weights=power, minlength=len(pairs))
+        slot = self._slot(pairs[:, 0])
+        np.add.at(self._sq, slot, per_pair * per_pair)
 
     def escape(self, node, direction, power, wavelength, stokes_args=None):
         self._grow_esc(len(self.tree))
@@ -226,7 +257,8 @@ class Recorder:
         self._grow_esc(len(self.tree))
         return dict(nodes=self._slot_node[:n].copy(), power=a[:, 0].copy(),
                     count=a[:, 1].astype(np.int64), p0=a[:, 2].copy(), stokes=a[:, 3:7].copy(),
-                    mueller=a[:, 7:23].copy(), escaped=self._node_esc[: len(self.tree)].copy())
+                    mueller=a[:, 7:23].copy(), escaped=self._node_esc[: len(self.tree)].copy(),
+                    sum_sq=self._sq[:n].copy())
 
 
 def far_field_bins(d, directions, power):
@@ -308,6 +340,8 @@ class _Tracer:
         #: (source rays of the launch batch, detectors) sampled detected power [W], or None
         #: when nothing is sampled (no scatter, tree mode); see :meth:`Ledger.book_sampled`
         self.sampled = None
+        #: sampled hits of the launch batch (node, root, power) for path standard errors
+        self.sampled_hits: list = []
         self.tracks_sampling = bool((cs.scatter_models or self.mc) and len(cs.detector_names))
 
     def _behind(self, b: RayBatch, t, src) -> None:
@@ -336,8 +370,8 @@ class _Tracer:
                 continue
             rows, s = rows[ok], s[ok]
             rel = b.origin[rows] + s[:, None] * b.direction[rows] - cs.det_position[d]
-            inb = ((np.abs(rel @ cs.det_x[d]) <= cs.det_half[d, 0])
-                   & (np.abs(rel @ cs.det_y[d]) <= cs.det_half[d, 1]))
+            inb = inside_outline(rel @ cs.det_x[d], rel @ cs.det_y[d], cs.det_half[d],
+                                 cs.det_round[d])
             if not inb.any():
                 continue
             rows, s = rows[inb], s[inb]
@@ -426,6 +460,7 @@ class _Tracer:
                 smp = tree.scatters[node] > 0 if not self.mc else np.ones(len(hd), dtype=bool)
                 if smp.any():
                     np.add.at(self.sampled, (b.root[hd][smp], di[smp]), b.power[hd][smp])
+                    self.sampled_hits.append((node[smp], b.root[hd][smp], b.power[hd][smp]))
             rec.detect(di, node, pos[det], direction[det], b.field[hd], b.power[hd],
                        b.wavelength[hd], table.coherency[root], table.power[root], src[det],
                        table.ray_id[root], self.mc)
@@ -622,6 +657,9 @@ def run(cs: CompiledScene, sources, opts: Options, *, wavelengths, coherence):
                     stack.append(nxt)
             if tracer.sampled is not None:
                 ledger.book_sampled(table.source, tracer.sampled)
+                if tracer.sampled_hits:
+                    rec.add_path_squares(*(np.concatenate(c) for c in zip(*tracer.sampled_hits)))
+                    tracer.sampled_hits = []
             done += len(b)
             if progress:
                 progress(done)

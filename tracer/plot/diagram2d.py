@@ -72,6 +72,19 @@ def _rect_corners(det):
                      c + w / 2 * x + h / 2 * y, c - w / 2 * x + h / 2 * y]), n
 
 
+def outline_points(det, sides: int = 48) -> np.ndarray:
+    """Outline (k, 3) [m] of a plane detector: its four corners, or a circle of ``sides``
+    points for a round one."""
+    corners, n = _rect_corners(det)
+    if getattr(det, "outline", "rectangle") != "circle":
+        return corners
+    c = np.asarray(det.position, float)
+    x = (corners[1] - corners[0]) / 2
+    y = (corners[3] - corners[0]) / 2
+    phi = 2 * np.pi * np.arange(sides) / sides
+    return c + np.cos(phi)[:, None] * x + np.sin(phi)[:, None] * y
+
+
 def _detector_trace(det, plane: Plane):
     """Segment (2, 2) [m] where a plane detector meets the drawing plane, or its outline."""
     corners, n = _rect_corners(det)

@@ -29,7 +29,8 @@ from . import _style
 from ._rays import prepare_rays
 from ._section import Plane
 from .colors import darker, scene_colors, solid_label
-from .diagram2d import SOLID_ALPHA, _add_rays, _caption, _legend, _rect_corners, _short_signature
+from .diagram2d import (SOLID_ALPHA, _add_rays, _caption, _legend, _rect_corners,
+                        _short_signature, outline_points)
 
 __all__ = ["draw_view", "draw_3d_views", "view_plane", "VIEWS"]
 
@@ -118,7 +119,7 @@ def _draw_detectors(ax, scene, plane: Plane, scale):
     for name, d in scene.detectors.items():
         if d.kind != "plane":
             continue
-        xy = plane.to2d(_rect_corners(d)[0]) / scale
+        xy = plane.to2d(outline_points(d)) / scale
         ax.add_patch(Polygon(xy, closed=True, facecolor="#9a9a9a", alpha=0.18, edgecolor="none",
                              zorder=7))
         ax.add_patch(Polygon(xy, closed=True, facecolor="none", edgecolor=_style.INK, lw=1.1,

@@ -22,7 +22,7 @@ import numpy as np
 
 from ._rays import prepare_rays
 from .colors import ray_rgb, scene_colors, solid_label, wavelength_label
-from .diagram2d import _rect_corners
+from .diagram2d import outline_points
 
 __all__ = ["export_glb", "scene_to_trimesh"]
 
@@ -79,8 +79,9 @@ def scene_to_trimesh(scene, result=None, *, min_power: float = 1e-6, tubes: floa
     for name, d in scene.detectors.items():
         if d.kind != "plane":
             continue
-        corners, _ = _rect_corners(d)
-        quad = trimesh.Trimesh(vertices=corners, faces=[[0, 1, 2], [0, 2, 3]], process=False)
+        rim = outline_points(d)
+        fan = [[0, i, i + 1] for i in range(1, len(rim) - 1)]  # convex outline: a fan
+        quad = trimesh.Trimesh(vertices=rim, faces=fan, process=False)
         rgba = np.array([int(255 * c) for c in DETECTOR_RGBA], dtype=np.uint8)
         quad.visual = TextureVisuals(material=_material(rgba, "detector"))
         out.add_geometry(quad, geom_name=f"detector {name}", node_name=f"detector {name}")

@@ -164,7 +164,8 @@ def _scene_section(summary: dict) -> str:
                 size = d.get("size_m") or (0, 0)
                 rows.append([name, "plane" + (f" on {d['on_face']}" if d.get("on_face") else ""),
                              _vec([1e3 * x for x in d.get("position_m", [])]) + " mm",
-                             f"{1e3 * size[0]:.4g} x {1e3 * size[1]:.4g} mm",
+                             (f"disk {1e3 * size[0]:.4g} mm" if d.get("outline") == "circle"
+                              else f"{1e3 * size[0]:.4g} x {1e3 * size[1]:.4g} mm"),
                              "x".join(str(p) for p in d.get("pixels", []))])
         parts.append("<h3>Detectors</h3>" + _table(["detector", "kind", "position", "size", "pixels"], rows))
     return "\n".join(parts)
@@ -196,6 +197,7 @@ def _verdicts_section(verdicts, warnings=(), notes=()) -> str:
             boxes.append(f'<span class="verdict-box">all {len(verdicts)} passed</span>')
         parts.append("<p>" + " ".join(boxes) + "</p>")
         what = {"min_power": "minimum power", "max_power": "maximum power",
+                "max_scattered_power": "maximum scattered power",
                 "max_ghost_fraction": "maximum ghost fraction", "max_leakage": "maximum gap leakage"}
         label = {"pass": "pass", "fail": "FAIL", "inconclusive": "INCONCLUSIVE"}
         rows = [[v.name, what.get(v.kind, v.kind), v.subject, _fmt(v.value, v.unit),
@@ -259,39 +261,59 @@ def _crossings_table(budget) -> str:
                       "A to B [W]", "B to A [W]"], rows, num=(2, 3, 4, 5, 6)))
 
 
-def _ghost_section(tables, limit: int) -> str:
+def _ghost_section(tables, limit: int, result=None) -> str:
     parts = ["<h2>Ghost paths</h2>",
              "<p>Every path that reaches a detector, ranked by power. The design path (shaded) is the "
              "path following the scene's declared sequence, or the strongest path when none is "
              "declared. Paths meeting the same faces with the same events in another order (the "
              "sub-apertures of a corner cube or a roof) are equivalent to it: with it they make the "
-             "design signal (shaded, marked =). All others are ghosts. Events: T transmitted, R partially reflected, "
-             "TIR totally reflected, FT tunnelled across a gap, A absorbed; (…)×n repeats.</p>"]
+             "design signal (shaded, marked =). All others are ghosts: specular ghosts, and "
+             "scattered light (paths with a scatter event, whose powers rest on sampling and carry "
+             "a standard error). Events: T transmitted, R partially reflected, "
+             "TIR totally reflected, FT tunnelled across a gap, A absorbed, SR / ST scattered "
+             "back / forward; (…)×n repeats.</p>"]
     for name, t in tables.items():
         src = t.source_power_w
         parts.append(f"<h3>Detector {e(name)}</h3>")
+        sig = t.design_group_power_w
+
+        def of_signal(w):
+            return f" = {fmt_sci(w / sig)} of the design signal" if sig > 0 else ""
+
+        sums = (f"specular ghosts {fmt_sci(t.specular_ghost_power_w)} W"
+                f"{of_signal(t.specular_ghost_power_w)}; scattered light "
+                f"{fmt_sci(t.scattered_power_w)} W ± {fmt_sci(t.standard_error_w)} W (one "
+                f"standard error){of_signal(t.scattered_power_w)}"
+                if any(r.scattered for r in t.rows) else
+                f"ghost power {fmt_sci(t.ghost_power_w)} W = "
+                f"{fmt_sci(t.ghost_fraction) if math.isfinite(t.ghost_fraction) else 'inf'} "
+                "of the design signal")
         parts.append(f'<p>{fmt_sci(t.power_w)} W ({fmt_fraction(t.power_w / src if src else 0)} of the '
-                     f"source power) in {len(t.rows)} path{'s' if len(t.rows) != 1 else ''}; ghost power "
-                     f"{fmt_sci(t.ghost_power_w)} W = "
-                     f"{fmt_sci(t.ghost_fraction) if math.isfinite(t.ghost_fraction) else 'inf'} "
-                     "of the design signal.</p>")
+                     f"source power) in {len(t.rows)} path{'s' if len(t.rows) != 1 else ''}; "
+                     f"{sums}.</p>")
         if not t.rows:
             continue
         plane = t.kind == "plane"
-        header = ["rank", "power [W]", "of source", "to design", "refl."]
+        sampled = any(r.standard_error_w > 0 for r in t.rows)
+        header = ["rank", "light", "power [W]"] + (["± s.e. [W]"] if sampled else []) + [
+            "of source", "to design", "refl."]
         if plane:
             header += SPOT_HEADER
         header.append("path")
         rows = []
         for r in t.rows[:limit]:
-            row = [str(r.rank), fmt_sci(r.power_w), fmt_fraction(r.fraction),
-                   "design" if r.design else (("= " if r.equivalent else "") + fmt_sci(r.ratio)),
-                   str(r.reflections)]
+            row = [str(r.rank), r.light, fmt_sci(r.power_w)]
+            if sampled:
+                row.append(fmt_sci(r.standard_error_w) if r.standard_error_w > 0 else "–")
+            row += [fmt_fraction(r.fraction),
+                    "design" if r.design else (("= " if r.equivalent else "")
+                                               + (fmt_sci(r.ratio) if r.ratio is not None else "–")),
+                    str(r.reflections)]
             if plane:
                 row += r.spot_cells()
             row.append(_Raw(e(r.label), "path"))
             rows.append(row)
-        numeric = tuple(range(len(header) - 1))
+        numeric = tuple(i for i in range(len(header) - 1) if i != 1)
         designs = [not r.ghost for r in t.rows[:limit]]
         parts.append(_table(header, rows, num=numeric,
                             row_class=lambda j: "design" if designs[j] else None))
@@ -299,7 +321,22 @@ def _ghost_section(tables, limit: int) -> str:
             rest = sum(r.power_w for r in t.rows[limit:])
             parts.append(f'<p class="note">… {len(t.rows) - limit} weaker paths, {fmt_sci(rest)} W '
                          "together (all paths are in the CSV and JSON outputs).</p>")
+        if result is not None and plane and any(r.scattered for r in t.rows):
+            parts.append(_scatter_sources_table(result, name))
     return "\n".join(parts)
+
+
+def _scatter_sources_table(result, detector: str) -> str:
+    """Which faces light up ``detector`` by scatter (the last scattering face of each path)."""
+    from ..analysis.scatter_sources import scatter_ranking
+
+    r = scatter_ranking(result, detector)
+    rows = [[_Raw(e(f["face"]), "path"), fmt_sci(f["power_w"]), fmt_fraction(f["share"])]
+            for f in r["faces"]]
+    return (f"<h4>Faces whose scatter reaches {e(detector)}</h4><p>Scattered power on the "
+            "detector credited to the face of each path's last scatter event (the surface the "
+            "detector sees glowing).</p>"
+            + _table(["face", "power [W]", "share"], rows, num=(1, 2)))
 
 
 def _sequence_section(seq: dict | None, error: str | None) -> str:
@@ -392,7 +429,7 @@ def render_html(*, analysis, scene_summary: dict, figures: list, sequence: dict 
                               _leakage_notes(res, analysis.verdicts)),
             _scene_section(scene_summary),
             _budget_section(analysis.budget, budget_fig),
-            _ghost_section(analysis.ghosts, ghost_limit),
+            _ghost_section(analysis.ghosts, ghost_limit, res),
             _sequence_section(sequence, sequence_error)]
     if figs or skipped:
         body.append("<h2>Figures</h2>")

@@ -29,6 +29,18 @@ def rectangle_triangles(center, x_axis, y_axis, half):
     return np.array([[p[0], p[1], p[2]], [p[0], p[2], p[3]]])
 
 
+def ellipse_triangles(center, x_axis, y_axis, half, sides: int = 48):
+    """Fan triangles (sides, 3, 3) of a polygon circumscribing the ellipse of semi-axes
+    ``half`` [m] (a disk detector): aiming covers the whole disk, and directions into the
+    thin slivers outside it simply miss (the density stays that of the sampled triangles)."""
+    c, x, y = (np.asarray(v, dtype=float) for v in (center, x_axis, y_axis))
+    grow = 1.0 / np.cos(np.pi / sides)  # circumscribed: the polygon's edges touch the ellipse
+    phi = 2.0 * np.pi * np.arange(sides) / sides
+    rim = c + grow * (half[0] * np.cos(phi)[:, None] * x + half[1] * np.sin(phi)[:, None] * y)
+    nxt = np.roll(rim, -1, axis=0)
+    return np.stack([np.broadcast_to(c, rim.shape), rim, nxt], axis=1)
+
+
 def polygon_triangles(vertices):
     """Fan triangles (k-2, 3, 3) of a convex planar polygon (k, 3) [m]."""
     v = np.asarray(vertices, dtype=float)

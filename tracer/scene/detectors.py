@@ -100,9 +100,10 @@ def read_detector(name: str, t: Table, build: Build) -> DetectorSpec | None:
         position = centre + tolerances.DETECTOR_FACE_OFFSET * outward
         normal = -outward if detects == "outgoing" else outward
         x_axis = frame_axis(t, "x_axis", normal, build, what="the face normal")
-        width = t.quantity("width", "length", positive=True)
-        height = t.quantity("height", "length", positive=True)
-        if x_axis is not None:
+        outline, diameter = _outline(t)
+        width = t.quantity("width", "length", positive=True) if diameter is None else diameter
+        height = t.quantity("height", "length", positive=True) if diameter is None else diameter
+        if x_axis is not None and outline == "rectangle":
             y_axis = np.cross(normal, x_axis)
             rel = poly - centre
             if width is None and not t.has("width"):
@@ -117,8 +118,14 @@ def read_detector(name: str, t: Table, build: Build) -> DetectorSpec | None:
         position = t.vector("position", "length", required=True, dimension=dim)
         normal = t.vector("normal", None, required=True, dimension=dim, unit_length=True)
         x_axis = frame_axis(t, "x_axis", normal, build, what="normal")
-        width = t.quantity("width", "length", required=True, positive=True)
-        height = t.quantity("height", "length", required=dim == 3, positive=True)
+        outline, diameter = _outline(t)
+        if diameter is not None:
+            width = height = diameter
+        else:
+            width = t.quantity("width", "length", required=outline == "rectangle",
+                               positive=True)
+            height = t.quantity("height", "length", required=dim == 3 and outline == "rectangle",
+                                positive=True)
         if height is None and dim == 2 and not t.has("height"):
             height = width
         check_in_plane(t, "position", position, build)
@@ -127,11 +134,35 @@ def read_detector(name: str, t: Table, build: Build) -> DetectorSpec | None:
     if dim == 2 and x_axis is not None:
         check_in_plane(t, "x_axis", x_axis, build)
     t.finish(context="for a plane detector")
-    if any(v is None for v in (position, normal, x_axis, width, height, pixels, two_sided)):
+    if any(v is None for v in (position, normal, x_axis, width, height, pixels, two_sided,
+                               outline)):
         return None
     if not (width > 0 and height > 0):
         t.error(None, "the detector has no area (width and height must be positive)")
         return None
     return DetectorSpec(name=name, kind="plane", position=position, normal=normal,
                         x_axis=x_axis, size=(width, height), pixels=pixels,
-                        two_sided=two_sided, on_face=on_face_ref)
+                        two_sided=two_sided, on_face=on_face_ref, outline=outline)
+
+
+#: Outlines of a plane detector: a ``width`` x ``height`` rectangle, or a disk of
+#: ``diameter`` (pixels cover its bounding square).
+OUTLINES = ("rectangle", "circle")
+
+
+def _outline(t: Table):
+    """``outline`` and, for a circle, its ``diameter`` [m] (None otherwise)."""
+    outline = t.string("outline", default="rectangle", choices=OUTLINES)
+    if outline is None:  # already reported
+        t.known("diameter")
+        return None, None
+    if outline != "circle":
+        t.known("diameter")
+        if "diameter" in t.data:
+            t.error("diameter", 'applies to outline = "circle"; a rectangle takes width and height')
+        return outline, None
+    for bad in ("width", "height"):
+        t.known(bad)
+        if bad in t.data:
+            t.error(bad, 'a circular detector takes "diameter", not width and height')
+    return outline, t.quantity("diameter", "length", required=True, positive=True)

@@ -162,6 +162,10 @@ class SolidSpec:
         intersection like any solid but is never entered; the power its faces transmit
         is absorbed on the face. ``material`` is then the part's bulk (a metal for a
         specular surface) or the ambient when the file names none.
+    bevels : tuple of tracer.geometry.bevels.Bevel
+        The ground bevels cut on the solid's edges (``[[solids.NAME.bevels]]``), each with
+        its two faces and width [m]; ``geometry`` already has their chamfer faces
+        (``bevel_<a>_<b>``). Empty for a solid without bevels.
     """
 
     name: str
@@ -171,6 +175,7 @@ class SolidSpec:
     faces: dict[str, FaceTreatment]
     kind: str = "custom"
     opaque: bool = False
+    bevels: tuple = ()
 
     @property
     def table_key(self) -> str:
@@ -318,7 +323,9 @@ class DetectorSpec:
         ``plane``: a rectangle centred on ``position`` with normal ``normal`` (rays are
         counted when they cross it travelling against the normal, i.e. the normal
         points towards the light it detects, unless ``two_sided``); ``x_axis`` fixes
-        the pixel columns; ``size`` (width, height) [m]; ``pixels`` (nx, ny).
+        the pixel columns; ``size`` (width, height) [m]; ``pixels`` (nx, ny);
+        ``outline`` ``"rectangle"`` or ``"circle"`` (a disk of diameter ``size[0]``
+        inscribed in the pixel square).
         ``far_field``: a sphere at infinity that collects every escaping ray by
         direction; ``pixels`` (n_azimuth, n_polar).
     on_face
@@ -334,6 +341,7 @@ class DetectorSpec:
     pixels: tuple[int, int] = (64, 64)
     two_sided: bool = False
     on_face: str | None = None
+    outline: Literal["rectangle", "circle"] = "rectangle"
 
 
 @dataclass(frozen=True)
@@ -353,7 +361,8 @@ class RequirementSpec:
     """
 
     name: str
-    kind: Literal["min_power", "max_power", "max_ghost_fraction", "max_leakage"]
+    kind: Literal["min_power", "max_power", "max_scattered_power", "max_ghost_fraction",
+                  "max_leakage"]
     limit: float
     detector: str | None = None
     gap: str | None = None

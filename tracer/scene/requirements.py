@@ -11,7 +11,11 @@ from .reader import Table
 
 __all__ = ["read_requirement", "REQUIREMENT_KINDS"]
 
-REQUIREMENT_KINDS = ("min_power", "max_power", "max_ghost_fraction", "max_leakage")
+REQUIREMENT_KINDS = ("min_power", "max_power", "max_scattered_power", "max_ghost_fraction",
+                     "max_leakage")
+
+#: Kinds whose limit is a power or a fraction of the source power.
+_POWER_KINDS = ("min_power", "max_power", "max_scattered_power")
 
 #: What a ``max_leakage`` requirement judges (``mechanism`` key): every crossing of the
 #: gap (default), only frustrated TIR, or only refraction below the critical angle.
@@ -33,7 +37,8 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
 
     ``min_power``: ``detector`` and ``limit`` as a power ("1 mW", absolute) or a
     fraction (0.5 or "50 %", of the total source power); ``max_power`` likewise ("1 nW",
-    or "0.1 ppm" of the source power). ``max_ghost_fraction``:
+    or "0.1 ppm" of the source power); ``max_scattered_power`` likewise, for the power
+    of the detector's paths that met a scatter event. ``max_ghost_fraction``:
     ``detector`` and ``limit`` (fraction). ``max_leakage``: ``gap`` and ``limit``
     (fraction of the source power).
     """
@@ -42,7 +47,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
     relative = True
     limit = None
     mechanism = "crossed"
-    if kind in ("min_power", "max_power", "max_ghost_fraction"):
+    if kind in _POWER_KINDS + ("max_ghost_fraction",):
         detector = _name_ref(t, "detector", build.detector_keys, "detector")
         t.known("gap", "mechanism")
         if "gap" in t.data:
@@ -62,7 +67,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
         if raw is None:
             t.error(None, 'missing key "limit": expected '
                     + ('a power such as "1 mW" or a fraction such as "50 %"'
-                       if kind in ("min_power", "max_power") else 'a fraction such as 0.001 or "0.1 %"'))
+                       if kind in _POWER_KINDS else 'a fraction such as 0.001 or "0.1 %"'))
         elif isinstance(raw, bool) or not isinstance(raw, (int, float, str)):
             t.error("limit", f"expected a number or a quantity string, got {describe_value(raw)}")
         else:
@@ -75,7 +80,7 @@ def read_requirement(name: str, t: Table, build: Build, *, gap_names: set[str]) 
 
 
 def _limit(t: Table, kind: str, raw):
-    if kind in ("min_power", "max_power") and isinstance(raw, str):
+    if kind in _POWER_KINDS and isinstance(raw, str):
         try:
             value = units.power(raw, default=None)
             return value, False
@@ -85,7 +90,7 @@ def _limit(t: Table, kind: str, raw):
         value = units.fraction(raw)
     except TracerError:
         expected = ('a power such as "1 mW" or a fraction such as 0.5 or "50 %"'
-                    if kind in ("min_power", "max_power") else 'a fraction such as 0.001 or "0.1 %"')
+                    if kind in _POWER_KINDS else 'a fraction such as 0.001 or "0.1 %"')
         t.error("limit", f"expected {expected}, got {describe_value(raw)}")
         return None, True
     upper = float("inf") if kind == "max_ghost_fraction" else 1.0

@@ -26,7 +26,7 @@ __all__ = ["read_shape", "CONSTRUCTIONS", "catalog_kinds", "rotation_matrix", "p
 CONSTRUCTIONS = ("polygon", "polyhedron", "mesh")
 
 #: Keys of the solid table that are not shape parameters (see tracer.scene.solids).
-_COMMON = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "note")
+_COMMON = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "bevels", "note")
 
 
 def catalog_kinds() -> dict:

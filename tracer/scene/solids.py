@@ -10,6 +10,11 @@ centroid + offset_u u + offset_v v + gap n, then it spins by ``spin`` about n an
 by ``wedge`` about u; in a 2D scene the wedge turns about z instead, so that the solid
 stays in the plane). Mated solids may mate to other
 mated solids; they are placed in dependency order, and a cycle is an error.
+
+Bevels (``[[solids.NAME.bevels]]``, :mod:`tracer.scene.bevels`) are cut on the local shape
+before the faces are read, so their chamfer faces take coatings like any face; placement
+(pivot centroids, mates) is measured on the shape before its bevels, so that a bevel never
+moves a solid.
 """
 
 from __future__ import annotations
@@ -23,6 +28,7 @@ from .. import tolerances
 from ..errors import TracerError
 from . import parts as part_shapes
 from . import shapes
+from .bevels import read_bevels
 from .context import Build, split_face_ref
 from .media import resolve_material
 from .model import FaceTreatment, SolidSpec
@@ -33,7 +39,8 @@ from .treatments import PerSubstrate
 __all__ = ["read_solids", "MateRequest", "COMMON_SOLID_KEYS"]
 
 #: Keys every solid table may have, whatever its kind.
-COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "note")
+COMMON_SOLID_KEYS = ("material", "kind", "position", "rotation", "pivot", "mate", "faces", "bevels",
+                     "note")
 #: Keys a ``[parts.NAME]`` table has besides the solid keys (it has no ``mate``).
 PART_KEYS = ("surface",)
 
@@ -67,6 +74,8 @@ class _Pending:
     kind: str
     faces: dict
     opaque: bool = False
+    nominal: object = None  # the shape before its bevels: placement (pivot, mate) uses it
+    bevels: tuple = ()
 
 
 def read_solids(tables: dict[str, Table], build: Build,
@@ -80,6 +89,7 @@ def read_solids(tables: dict[str, Table], build: Build,
     build.part_keys = set(parts)
     build.solid_keys = set(tables) | set(parts)
     pending: dict[str, _Pending] = {}
+    transforms: dict[str, tuple] = {}  # placed solid -> (R, t) of its local frame
     requests: dict[str, MateRequest] = {}
     placements: dict[str, tuple] = {}
     for name, t in [*tables.items(), *parts.items()]:
@@ -97,6 +107,8 @@ def read_solids(tables: dict[str, Table], build: Build,
             if kind else None
         if kind is None:
             t.known(*t.data)
+        nominal = local
+        local, bevels, bevel_coatings = read_bevels(t, local, build, part=is_part)
         mate_t = t.table("mate")
         if is_part and mate_t is not None:
             t.error("mate", "a part is placed by position, rotation and pivot, not mated")
@@ -118,7 +130,8 @@ def read_solids(tables: dict[str, Table], build: Build,
             rotation = _read_rotation(t, build)
             pivot = _read_pivot(t, build)
             placements[name] = (position, rotation, pivot)
-        faces = _read_faces(t, local, build, material, material_name, part=is_part)
+        faces = _read_faces(t, local, build, material, material_name, part=is_part,
+                            bevel_coatings=bevel_coatings)
         if is_part:
             faces = part_shapes.part_faces(t, local, build, faces, material=material,
                                            material_name=material_name)
@@ -127,7 +140,8 @@ def read_solids(tables: dict[str, Table], build: Build,
         t.finish(context=f'for a {"part" if is_part else "solid"} of kind "{kind}"' if kind else None)
         if local is None or material is None or faces is None:
             continue
-        pending[name] = _Pending(name, t, local, material, material_name, kind, faces, is_part)
+        pending[name] = _Pending(name, t, local, material, material_name, kind, faces, is_part,
+                                 nominal, bevels)
 
     # free-standing solids
     for name, (position, rotation, pivot) in placements.items():
@@ -138,11 +152,13 @@ def read_solids(tables: dict[str, Table], build: Build,
         if pivot is None:
             continue
         R = shapes.rotation_matrix(*rotation)
+        shift = pivot_translation(R, pivot, position)
         try:
-            placed = shapes.place(p.local, R, pivot_translation(R, pivot, position))
+            placed = shapes.place(p.local, R, shift)
         except TracerError as exc:
             p.table.error("position", f"cannot place the solid there: {exc}")
             continue
+        transforms[name] = (R, shift)
         _finish_solid(p, placed, build)
 
     # mated solids, in dependency order
@@ -153,8 +169,11 @@ def read_solids(tables: dict[str, Table], build: Build,
         target = build.solids.get(req.target_solid)
         if p is None or target is None:
             continue
-        placed = _apply_mate(req, p, target, build)
+        placed = _apply_mate(req, p, target, build, pending.get(req.target_solid),
+                             transforms.get(req.target_solid))
         if placed is not None:
+            placed, transform = placed
+            transforms[name] = transform
             _finish_solid(p, placed, build)
             mated.append(req)
     return mated
@@ -165,7 +184,8 @@ def _finish_solid(p: _Pending, geometry, build: Build) -> None:
         return
     faces = {f: p.faces.get(f, FaceTreatment("uncoated")) for f in geometry.face_names}
     build.solids[p.name] = SolidSpec(name=p.name, material=p.material, material_name=p.material_name,
-                                     geometry=geometry, faces=faces, kind=p.kind, opaque=p.opaque)
+                                     geometry=geometry, faces=faces, kind=p.kind, opaque=p.opaque,
+                                     bevels=tuple(p.bevels))
 
 
 def _check_2d(p: _Pending, geometry) -> bool:
@@ -217,18 +237,30 @@ def _read_pivot(t: Table, build: Build):
 
 
 def _resolve_pivot(p: _Pending, pivot):
-    """The pivot as a local point [m] (a face name means its area centroid)."""
+    """The pivot as a local point [m] (a face name means its area centroid).
+
+    Centroids are those of the shape before its bevels, so that a bevel never moves a
+    solid (a chamfer face itself, which only the bevelled shape has, is taken from it).
+    """
     if not isinstance(pivot, str):
         return np.asarray(pivot, dtype=float)
     if pivot == PIVOT_CENTROID:
-        return np.asarray(p.local.centroid, dtype=float)
+        return np.asarray(_nominal(p).centroid, dtype=float)
     names = list(p.local.face_names)
     if pivot not in names:
         p.table.error("pivot", f'solid "{p.name}" has no face "{pivot}" to turn about'
                                + did_you_mean(pivot, names + [PIVOT_CENTROID])
                                + f'; expected a point [x, y, z], one of its faces or "{PIVOT_CENTROID}"')
         return None
-    return np.asarray(p.local.face_centroid(pivot), dtype=float)
+    return np.asarray(_nominal(p, pivot).face_centroid(pivot), dtype=float)
+
+
+def _nominal(p: _Pending, face: str | None = None):
+    """The shape placement measures: the one before the bevels, unless it lacks ``face``."""
+    shape = p.nominal if p.nominal is not None else p.local
+    if face is not None and face not in shape.face_names:
+        return p.local
+    return shape
 
 
 def _read_rotation(t: Table, build: Build):
@@ -247,8 +279,10 @@ def _read_rotation(t: Table, build: Build):
 
 
 def _read_faces(t: Table, local, build: Build, material, material_name, *,
-                part: bool = False) -> dict | None:
-    """``[solids.NAME.faces.FACE] coating = "..."`` (also ``[parts.NAME.faces.FACE]``)."""
+                part: bool = False, bevel_coatings: dict | None = None) -> dict | None:
+    """``[solids.NAME.faces.FACE] coating = "..."`` (also ``[parts.NAME.faces.FACE]``), and
+    the ``coating`` of each bevel for its chamfer face (``bevel_coatings``, from
+    :func:`tracer.scene.bevels.read_bevels`)."""
     tables = t.tables("faces")
     names = list(local.face_names) if local is not None else None
     out, ok = {}, True
@@ -263,29 +297,47 @@ def _read_faces(t: Table, local, build: Build, material, material_name, *,
         if coating is None:
             ok = False
             continue
-        if coating not in build.coating_keys:
-            ft.error("coating", f'unknown coating "{coating}"' + did_you_mean(coating, build.coating_keys))
+        if face in (bevel_coatings or {}):
+            ft.error("coating", f'the bevel {bevel_coatings[face].table.key} gives face "{face}" '
+                                "its coating already: give it in one place only")
             ok = False
             continue
-        treatment = build.coatings.get(coating)
-        if treatment is None:  # defined but broken: already reported
+        treatment = _treatment(ft, coating, build, material, material_name, part)
+        if treatment is None:
             ok = False
             continue
-        if isinstance(treatment, PerSubstrate):
-            if material is None:
-                if part and material_name is None:
-                    ft.error("coating", f'coating "{coating}" is designed for the substrate it sits '
-                                        "on, but the part has no material: give it one")
-                ok = False
-                continue
-            try:
-                treatment = treatment.for_substrate(material, material_name)
-            except TracerError as exc:
-                ft.error("coating", f'coating "{coating}" cannot be designed for {material_name}: {exc}')
-                ok = False
-                continue
+        out[face] = treatment
+    for face, bc in (bevel_coatings or {}).items():
+        treatment = _treatment(bc.table, bc.coating, build, material, material_name, part)
+        if treatment is None:
+            ok = False
+            continue
         out[face] = treatment
     return out if ok and names is not None else None
+
+
+def _treatment(ft: Table, coating: str, build: Build, material, material_name, part: bool):
+    """The face treatment of coating name ``coating`` (the ``coating`` key of table ``ft``),
+    designed for the solid's material when it depends on it; ``None`` with the problem
+    recorded."""
+    if coating not in build.coating_keys:
+        ft.error("coating", f'unknown coating "{coating}"' + did_you_mean(coating, build.coating_keys))
+        return None
+    treatment = build.coatings.get(coating)
+    if treatment is None:  # defined but broken: already reported
+        return None
+    if isinstance(treatment, PerSubstrate):
+        if material is None:
+            if part and material_name is None:
+                ft.error("coating", f'coating "{coating}" is designed for the substrate it sits '
+                                    "on, but the part has no material: give it one")
+            return None
+        try:
+            treatment = treatment.for_substrate(material, material_name)
+        except TracerError as exc:
+            ft.error("coating", f'coating "{coating}" cannot be designed for {material_name}: {exc}')
+            return None
+    return treatment
 
 
 def _read_mate(name: str, t: Table, build: Build) -> MateRequest | None:
@@ -355,7 +407,14 @@ def _mate_order(requests: dict[str, MateRequest], build: Build) -> list[str]:
     return order
 
 
-def _apply_mate(req: MateRequest, p: _Pending, target: SolidSpec, build: Build):
+def _apply_mate(req: MateRequest, p: _Pending, target: SolidSpec, build: Build,
+                target_pending: _Pending | None = None, target_transform: tuple | None = None):
+    """``(placed solid, (R, t))`` of a mated solid, or ``None`` with the problem recorded.
+
+    The mate is measured on the shapes before their bevels (both solids' unbevelled faces,
+    placed), so that a bevel never moves a solid; a chamfer face, which only the bevelled
+    shape has, is measured on it.
+    """
     t = req.table
     tnames = list(target.geometry.face_names)
     if req.target_face not in tnames:
@@ -368,22 +427,28 @@ def _apply_mate(req: MateRequest, p: _Pending, target: SolidSpec, build: Build):
         return None
     from ..geometry.mating import mate_transform
     from ..geometry.transforms import axis_rotation
+    moving = _nominal(p, req.face)
+    fixed = target.geometry
+    if target_pending is not None and target_transform is not None:
+        shape = _nominal(target_pending, req.target_face)
+        if shape is not target_pending.local:
+            fixed = shapes.place(shape, *target_transform)
     wedge = req.wedge
     try:
-        R, shift = mate_transform(p.local, req.face, target.geometry, req.target_face, gap=req.gap,
+        R, shift = mate_transform(moving, req.face, fixed, req.target_face, gap=req.gap,
                                   offset=tuple(req.offset), spin=req.spin,
                                   wedge=0.0 if build.dimension == 2 else wedge)
         if build.dimension == 2 and wedge:
             # in a cross-section the wedge turns about z (the face's v axis) instead of u
-            _, vf, _ = target.geometry.face_frame(req.target_face)
-            anchor = R @ p.local.face_centroid(req.face) + shift
+            _, vf, _ = fixed.face_frame(req.target_face)
+            anchor = R @ moving.face_centroid(req.face) + shift
             W = axis_rotation(vf, wedge)
             R, shift = W @ R, W @ (shift - anchor) + anchor
     except TracerError as exc:
         t.error(None, str(exc))
         return None
     try:
-        return shapes.place(p.local, R, shift)
+        return shapes.place(p.local, R, shift), (R, shift)
     except TracerError as exc:
         t.error(None, str(exc))
         return None

@@ -62,6 +62,8 @@ def summarize(scene: Scene) -> dict:
             "volume_m3": _f(g.volume),
             "bounds_m": [_v(b) for b in np.asarray(g.bounds, float)],
             "faces": faces,
+            "bevels": [{"face": bv.face, "edge": list(bv.faces), "width_m": _f(bv.width)}
+                       for bv in getattr(s, "bevels", ())],
         }
     gaps = {
         name: {
@@ -99,6 +101,7 @@ def summarize(scene: Scene) -> dict:
             "normal": _v(d.normal),
             "x_axis": _v(d.x_axis),
             "size_m": _v(d.size),
+            "outline": getattr(d, "outline", "rectangle"),
             "pixels": [int(p) for p in d.pixels],
             "two_sided": bool(d.two_sided),
             "on_face": d.on_face,
@@ -268,8 +271,12 @@ def _solid_lines(name: str, so: dict) -> list[str]:
             shown = ", ".join(names[:6]) + (f", ... ({len(names)} faces)" if len(names) > 6 else "")
             lines.append(f"    {what}: {shown if len(groups) > 1 or len(names) <= 6 else f'every face ({len(names)})'}")
         return lines
+    bevels = {b["face"]: b for b in so.get("bevels") or ()}
     for face, f in so["faces"].items():
-        lines.append(f"    {face}: {_face_label(f)}; normal {_direction(f['normal'])}, centroid "
+        bevel = bevels.get(face)
+        what = _face_label(f) + (f", a {_len(bevel['width_m'])} bevel on the edge "
+                                 f"{bevel['edge'][0]} | {bevel['edge'][1]}" if bevel else "")
+        lines.append(f"    {face}: {what}; normal {_direction(f['normal'])}, centroid "
                      "[" + ", ".join(f"{v * 1e3 + 0.0:.6g}" for v in f["centroid_m"]) + "] mm")
     return lines
 
@@ -323,15 +330,19 @@ def format_summary(summary: dict) -> str:
         else:
             where = f"on {d['on_face']}" if d["on_face"] else "at [" + ", ".join(
                 _len(v) for v in d["position_m"]) + "]"
-            lines.append(f"  {name}: plane {where}, {_len(d['size_m'][0])} x {_len(d['size_m'][1])}, "
+            size = (f"disk {_len(d['size_m'][0])} across" if d.get("outline") == "circle"
+                    else f"{_len(d['size_m'][0])} x {_len(d['size_m'][1])}")
+            lines.append(f"  {name}: plane {where}, {size}, "
                          f"{d['pixels'][0]} x {d['pixels'][1]} pixels")
     lines.append(f"requirements ({len(s['requirements'])}):")
     for name, r in s["requirements"].items():
         target = r["detector"] or r["gap"]
-        if r["kind"] == "min_power":
+        if r["kind"] in ("min_power", "max_power", "max_scattered_power"):
             limit = (f"{r['limit'] * 100:g} % of the source power" if r["relative"]
                      else units.format_power(r["limit"]))
-            lines.append(f"  {name}: power on {target} >= {limit}")
+            what = "scattered power" if r["kind"] == "max_scattered_power" else "power"
+            cmp = ">=" if r["kind"] == "min_power" else "<="
+            lines.append(f"  {name}: {what} on {target} {cmp} {limit}")
         elif r["kind"] == "max_ghost_fraction":
             lines.append(f"  {name}: ghost fraction on {target} <= {r['limit']:g}")
         else:

@@ -143,7 +143,11 @@ def _add(a, b):
     return a
 
 
-def _merge_paths(lists, max_paths):
+def _merge_paths(lists, max_paths, rays=None):
+    """Paths matched by signature, powers, ray counts and squared sums added; a path's
+    standard error recomputed from the sums and its source's ``rays`` (source -> count)."""
+    from ..engine.result import path_standard_error
+
     acc: dict[str, dict] = {}
     for paths in lists:
         for p in paths:
@@ -154,16 +158,38 @@ def _merge_paths(lists, max_paths):
                 q["power_w"] += p["power_w"]
                 if "rays" in p:
                     q["rays"] = q.get("rays", 0) + p["rays"]
+                if "sum_sq_w2" in p:
+                    q["sum_sq_w2"] = q.get("sum_sq_w2", 0.0) + p["sum_sq_w2"]
+    if rays is not None:
+        for q in acc.values():
+            if "sum_sq_w2" in q:
+                n = int(rays.get(q["signature"].split(" > ", 1)[0], 0))
+                q["standard_error_w"] = path_standard_error(q["power_w"], q["sum_sq_w2"], n)
     merged = sorted(acc.values(), key=lambda p: (-p["power_w"], p["signature"]))
     return merged[:max_paths], len(merged)
+
+
+def _standard_error(moments, rays) -> float:
+    """Detector standard error [W] from per-source [sum, sum of squares] and ray counts
+    (:meth:`tracer.engine.ledger.Ledger.standard_error`)."""
+    var = 0.0
+    for src, (a, b) in moments.items():
+        n = int(rays.get(src, 0))
+        if n > 1:
+            var += max(n * b - a * a, 0.0) / (n - 1)
+    return float(var ** 0.5)
 
 
 def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     """Add the summaries of traces of disjoint ray sets.
 
     Ledger accounts, source powers and ray counts, events, detector powers and hits,
-    dropped hits and the power tunnelled through each gap add; paths are matched by signature and their powers and ray counts add. For an exact
-    merge the pieces should keep all their paths (``summary(max_paths=<large>)``).
+    dropped hits and the power tunnelled through each gap add; paths are matched by
+    signature and their powers, ray counts and squared sums add. Standard errors of
+    sampled scatter are recomputed from the added raw moments (per source: sum and sum of
+    squares over its rays, and the rays counted), so they equal the single trace's to
+    round-off. For an exact merge the pieces should keep all their paths
+    (``summary(max_paths=<large>)``).
 
     >>> a = {"title": "t", "events": 3, "source_power_w": 1.0, "sources": {},
     ...      "detectors": {"d": {"kind": "plane", "power_w": 0.5, "hits": 1, "paths_total": 1,
@@ -183,20 +209,43 @@ def merge_summaries(summaries: list[dict], *, max_paths: int = 50) -> dict:
     for s in summaries:
         sources = _add(sources, s.get("sources", {}))
     out["sources"] = sources
+    rays = None
+    if any("sampled_rays" in s for s in summaries):
+        rays = {}
+        for s in summaries:
+            rays = _add(rays, s.get("sampled_rays", {}))
+        out["sampled_rays"] = rays
+    if any("scattered_faces" in s for s in summaries):
+        faces: dict = {}
+        for s in summaries:
+            faces = _add(faces, s.get("scattered_faces", {}))
+        out["scattered_faces"] = faces
     dets: dict = {}
     for name, d in first.get("detectors", {}).items():
         parts = [s["detectors"][name] for s in summaries]
         merged = {k: v for k, v in d.items()
                   if k not in ("paths", "power_w", "hits", "paths_total", "hits_dropped",
-                               "behind_w")}
+                               "behind_w", "scattered_w", "standard_error_w",
+                               "sampled_moments")}
         merged["power_w"] = float(sum(p["power_w"] for p in parts))
+        if "scattered_w" in d:
+            merged["scattered_w"] = float(sum(p.get("scattered_w", 0.0) for p in parts))
+        if "sampled_moments" in d:
+            moments: dict = {}
+            for p in parts:
+                for src, (a, b) in p.get("sampled_moments", {}).items():
+                    m = moments.setdefault(src, [0.0, 0.0])
+                    m[0] += a
+                    m[1] += b
+            merged["sampled_moments"] = moments
+            merged["standard_error_w"] = _standard_error(moments, rays or {})
         if "hits" in d:
             merged["hits"] = int(sum(p.get("hits", 0) for p in parts))
         if "hits_dropped" in d:
             merged["hits_dropped"] = int(sum(p.get("hits_dropped", 0) for p in parts))
         if "behind_w" in d:
             merged["behind_w"] = float(sum(p.get("behind_w", 0.0) for p in parts))
-        paths, total = _merge_paths([p.get("paths", []) for p in parts], max_paths)
+        paths, total = _merge_paths([p.get("paths", []) for p in parts], max_paths, rays)
         merged["paths"] = paths
         if "paths_total" in d:
             merged["paths_total"] = total
