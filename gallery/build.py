@@ -17,6 +17,8 @@ the budget and the ghost table. It writes, per scene ``NAME``:
 * ``NAME_stokes.png``: normalised Stokes maps of the main detector;
 * ``NAME_farfield.png``: the far-field map (scenes with a far-field detector);
 * ``NAME_budget.png``: the power budget;
+* ``NAME_scatter.png``: scenes where scattered light reaches a detector: where it goes,
+  where it lands on the detector receiving most of it, and which faces send it;
 
 and ``gallery/README.md`` with the figures and a markdown ghost table per scene. The
 main detector is the plane detector that receives the most power. Nothing is random
@@ -101,14 +103,31 @@ def _md_table(result, detector) -> str:
         return f"_No power reached `{detector}`._\n"
     out = [f"Paths on `{detector}` ({t.design_rule} rule for the design path), "
            f"strongest {min(GHOST_ROWS, len(t.rows))} of {len(t.rows)}:\n",
-           "| # | path | power [W] | of source | to design | reflections |",
-           "|---:|---|---:|---:|---:|---:|"]
+           "| # | light | path | power [W] | ± s.e. [W] | of source | to design | reflections |",
+           "|---:|---|---|---:|---:|---:|---:|---:|"]
     for r in t.rows[:GHOST_ROWS]:
         label = r.label.replace("|", "\\|") + (" **(design)**" if r.design else "")
         ratio = "" if r.ratio is None else f"{r.ratio:.3g}"
-        out.append(f"| {r.rank} | `{label}` | {r.power_w:.3g} | {r.fraction:.3g} | {ratio} | "
-                   f"{r.reflections} |")
+        se = f"{r.standard_error_w:.2g}" if r.standard_error_w > 0 else ""
+        out.append(f"| {r.rank} | {r.light} | `{label}` | {r.power_w:.3g} | {se} | "
+                   f"{r.fraction:.3g} | {ratio} | {r.reflections} |")
+    if any(r.scattered for r in t.rows):
+        out.append(f"\nSpecular ghosts {t.specular_ghost_power_w:.3g} W, scattered light "
+                   f"{t.scattered_power_w:.3g} W ± {t.standard_error_w:.2g} W (one standard "
+                   "error).")
     return "\n".join(out) + "\n"
+
+
+def _scatter_detector(result):
+    """The plane detector receiving the most scattered light (None without any)."""
+    from tracer.analysis.scatter_sources import scatter_ranking
+
+    best = None
+    for d in result.compiled.detector_names:
+        w = scatter_ranking(result, d)["scattered_w"]
+        if w > 0 and (best is None or w > best[1]):
+            best = (d, w)
+    return best[0] if best else None
 
 
 def build_scene(path: Path) -> dict:
@@ -137,6 +156,10 @@ def build_scene(path: Path) -> dict:
     if maps.compiled.far_fields and P.far_field_data(maps)["total_power"] > 0:
         files["farfield"] = _write(P.far_field_map(maps), f"{name}_farfield")
     files["budget"] = _write(P.budget_figure(maps), f"{name}_budget")
+    stray = _scatter_detector(maps)
+    if stray:
+        files["scatter"] = _write(P.scatter_figure(maps, stray, draw_result=draw),
+                                  f"{name}_scatter")
     table = _md_table(maps, det) if det else ""
     return dict(name=name, title=scene.title, dimension=scene.dimension, files=files, table=table,
                 detector=det, ghost=ghost, rays=int(np.sum(maps.launched)),
@@ -177,6 +200,11 @@ How to read the figures:
   gallery bins them on the detector grid coarsened by powers of two until lit pixels
   get a few rays each (`pixels="auto"`), so that a few thousand rays give smooth maps.
 * The **budget** puts every account on a log power axis; it closes to the source power.
+* The **scattered light** figure (scenes with scatter): on the left the light after a
+  scatter event in colour over the rest in grey, with the faces that send it to the
+  detector outlined and numbered by rank; in the middle the scattered power per pixel on
+  that detector in ppm of the source; on the right the faces ranked by what they put on
+  it, with the standard error of the total (scattered powers rest on sampling).
 """
 
 
@@ -194,7 +222,8 @@ def write_readme(entries) -> Path:
         if e["ghost"]:
             parts.append(f"Highlighted: `{e['ghost']}`\n")
         for key, caption in (("irradiance", "irradiance"), ("stokes", "Stokes maps"),
-                             ("farfield", "far field"), ("budget", "power budget")):
+                             ("farfield", "far field"), ("budget", "power budget"),
+                             ("scatter", "scattered light")):
             if key in f:
                 parts.append(f"![{caption}]({f[key]})\n")
         if e["table"]:

@@ -199,7 +199,9 @@ def _extreme_for(value, rng: random.Random):
         i = rng.randrange(len(out))
         out[i] = _extreme_for(out[i], rng)
         return out
-    return rng.choice(EXTREME_OTHERS)
+    # a copy: a later mutation inside it must not change the shared list of extremes (or
+    # put a value inside itself, a cycle)
+    return copy.deepcopy(rng.choice(EXTREME_OTHERS))
 
 
 def _is_quantity(value) -> bool:

@@ -3,8 +3,9 @@
 Writes into ``--out DIR`` (default: the current folder) one file per figure:
 ``rays`` (section of the solids with the traced rays, opacity and width falling with
 power), ``rays3d`` (3D view), ``budget`` (where the power goes), ``irradiance`` and
-``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction), and
-``glb`` (the solids, detectors and rays as a binary glTF file for 3D viewers). Choose
+``stokes`` (maps on each plane detector), ``far_field`` (intensity by direction),
+``scatter`` (per plane detector that scattered light reaches: where the scattered light
+goes, where it lands and which faces send it), and ``glb`` (the solids, detectors and rays as a binary glTF file for 3D viewers). Choose
 with ``--kind`` (repeatable; default ``rays``, ``all`` for every figure kind and the GLB
 file) and the figure formats with ``--format`` (png, svg). ``manifest.json`` in the folder
 lists the files of the last draw run (earlier ones it listed and not drawn again are
@@ -67,6 +68,8 @@ def run(args) -> int:
                                    skipped=skipped, prefix=f"{stem}-"))
         if "far_field" in (args.kind or []) and not getattr(result.compiled, "far_fields", None):
             skipped.append(("far_field", "the scene has no far-field detector"))
+        if "scatter" in (args.kind or []) and not any("-scatter-" in f.name for f in files):
+            skipped.append(("scatter", "no scattered light reached a plane detector"))
         if glb:
             try:
                 from ..plot.export3d import export_glb

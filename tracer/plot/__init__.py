@@ -17,6 +17,7 @@ function                      draws
 :func:`stokes_maps`           S1/S0, S2/S0, S3/S0 maps
 :func:`far_field_map`         escaping radiant intensity [W/sr] by direction
 :func:`budget_figure`         power budget bars by account
+:func:`scatter_figure`        where a detector's scattered light comes from
 :func:`draw_overlay`          two ray diagrams on one axes (a scene before and after)
 :func:`save`                  write a figure as SVG and PNG
 ============================  =====================================================
@@ -43,6 +44,7 @@ __all__ = [
     "far_field_map",
     "far_field_data",
     "budget_figure",
+    "scatter_figure",
     "draw_overlay",
     "save",
     "wavelength_to_rgb",
@@ -64,6 +66,7 @@ _WHERE = {
     "far_field_map": "maps",
     "far_field_data": "maps",
     "budget_figure": "budget",
+    "scatter_figure": "scatter_view",
     "draw_overlay": "overlay",
     "save": "_style",
     "wavelength_to_rgb": "colors",

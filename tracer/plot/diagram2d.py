@@ -107,6 +107,14 @@ def _detector_trace(det, plane: Plane):
     return np.array([p[i], p[j]]), False
 
 
+def _concat_rays(sets) -> RaySet:
+    """One RaySet of several (for extents and label placement)."""
+    import dataclasses
+
+    fields = [f.name for f in dataclasses.fields(RaySet)]
+    return RaySet(**{f: np.concatenate([getattr(s, f) for s in sets]) for f in fields})
+
+
 def _add_rays(ax, rays: RaySet, plane: Plane, scale: float, *, zorder=5):
     from matplotlib.collections import LineCollection
 
@@ -180,7 +188,8 @@ def _short_signature(sig: str, limit: int = 70) -> str:
 def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_labels: bool = True,
             gap_labels: bool = True, min_power: float = 1e-6, highlight=None,
             scale_bar: bool = True, legend: bool = True, title: str | bool = True,
-            plane: str | Plane = "xy", at: float | None = None, figsize=(6.4, 5.0)):
+            plane: str | Plane = "xy", at: float | None = None, figsize=(6.4, 5.0),
+            rays=None):
     """Draw the scene's section with its traced rays.
 
     Parameters
@@ -212,6 +221,9 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
     at : float [m] or None
         Position of the plane along its normal (default 0 for 2D scenes, the middle of
         the solids for 3D scenes).
+    rays : RaySet, list of RaySet, or None
+        Rays already prepared (drawn in the order given, each with its own colours)
+        instead of those of ``result``.
 
     Returns
     -------
@@ -221,14 +233,21 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
     Notes
     -----
     Solids the plane misses are drawn as the dashed outline of their projection.
-    Coordinates are drawn in the unit of the scale bar; axes are hidden.
+    Coordinates are drawn in the unit of the scale bar; axes are hidden. The axes keep
+    that unit as ``ax.drawing_unit`` (name, metres per unit) and the drawing plane as
+    ``ax.drawing_plane``, so that callers can add to the drawing.
     """
     from matplotlib.patches import Polygon
 
     fig, ax = _style.new_axes(ax, figsize=figsize)
     pl = _scene_plane(scene, plane, at)
     colors = scene_colors(scene)
-    rays = prepare_rays(result, min_power=min_power, highlight=highlight)
+    ray_sets = None
+    if rays is not None:
+        ray_sets = list(rays) if isinstance(rays, (list, tuple)) else [rays]
+        rays = _concat_rays(ray_sets)
+    else:
+        rays = prepare_rays(result, min_power=min_power, highlight=highlight)
 
     # extent first: decides the drawing unit
     pts = []
@@ -251,7 +270,9 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
     allp = np.vstack(pts) if pts else np.zeros((1, 2))
     lo, hi = allp.min(axis=0), allp.max(axis=0)
     width = float(max(hi[0] - lo[0], hi[1] - lo[1], 1e-9))
-    _, scale = _style.length_unit(width)
+    unit, scale = _style.length_unit(width)
+    ax.drawing_unit = (unit, scale)
+    ax.drawing_plane = pl
     with _style.style():
         solid_xy = []
         for name, s in scene.solids.items():
@@ -291,7 +312,8 @@ def draw_2d(scene, result=None, *, ax=None, face_labels: bool = False, solid_lab
                 n2 = pl.to2d(pl.origin + np.asarray(d.normal, float))
                 n2 = n2 / max(np.linalg.norm(n2), 1e-300)
                 _end_label(ax, seg / scale, -n2, name)
-        _add_rays(ax, rays, pl, scale)
+        for rs in (ray_sets or [rays]):
+            _add_rays(ax, rs, pl, scale)
         pad = 0.06 * width
         ax.set_xlim((lo[0] - pad) / scale, (hi[0] + pad) / scale)
         ax.set_ylim((lo[1] - pad) / scale, (hi[1] + pad) / scale)

@@ -6,7 +6,8 @@ plotting function is not available (matplotlib missing, or the function not in t
 version of :mod:`tracer.plot`) is skipped and named in :attr:`Figure.skipped`.
 
 Kinds: ``rays`` (2D section with the traced rays), ``rays3d`` (3D view), ``budget``
-(power budget), ``irradiance``, ``stokes`` (per plane detector), ``far_field``.
+(power budget), ``irradiance``, ``stokes`` (per plane detector), ``far_field``,
+``scatter`` (per plane detector that scattered light reaches: where it comes from).
 """
 
 from __future__ import annotations
@@ -18,7 +19,7 @@ from pathlib import Path
 __all__ = ["Figure", "make_figures", "save_figures", "figure_png", "close", "KINDS"]
 
 #: Every figure kind, in report order.
-KINDS = ("rays", "rays3d", "budget", "irradiance", "stokes", "far_field")
+KINDS = ("rays", "rays3d", "budget", "irradiance", "stokes", "far_field", "scatter")
 
 
 @dataclass
@@ -47,7 +48,7 @@ def _plot():
 
 #: Where each plotting function lives in :mod:`tracer.plot` (also taken from the
 #: package namespace when it exports it).
-_SUBMODULES = ("diagram2d", "diagram3d", "maps", "budget", "figures")
+_SUBMODULES = ("diagram2d", "diagram3d", "maps", "budget", "figures", "scatter_view")
 
 
 #: Plotting functions of each figure kind, first found wins (see :func:`_find`).
@@ -58,6 +59,7 @@ _PLOT_FUNCTIONS = {
     "irradiance": ("irradiance_map",),
     "stokes": ("stokes_maps",),
     "far_field": ("far_field_map",),
+    "scatter": ("scatter_figure",),
 }
 
 
@@ -150,7 +152,7 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
     def missing(kind):
         skipped.append((kind, "not available in this version of tracer.plot"))
 
-    drawn = drawing_result(result) if {"rays", "rays3d"} & set(kinds) else None
+    drawn = drawing_result(result) if {"rays", "rays3d", "scatter"} & set(kinds) else None
 
     for kind in kinds:
         if kind == "far_field" and not fars:
@@ -189,6 +191,14 @@ def make_figures(result, analysis=None, *, kinds=KINDS, skipped: list | None = N
                     out.append(Figure(f"stokes-{det}", f"Normalised Stokes parameters S1/S0, "
                                       f"S2/S0, S3/S0 on detector {det}" + binning,
                                       fn(result, det, pixels=grid)))
+        elif kind == "scatter":
+            from ..analysis.scatter_sources import scatter_ranking
+
+            lit = [d for d in planes if scatter_ranking(result, d)["scattered_w"] > 0]
+            for det in lit:
+                out.append(Figure(f"scatter-{det}", f"Scattered light on detector {det}: where it "
+                                  "goes in the scene, where it lands, and the faces that send it",
+                                  fn(result, det, draw_result=drawn)))
         elif kind == "far_field":
             for name in fars:
                 out.append(Figure(f"far-field-{name}", f"Radiant intensity by direction ({name})",
