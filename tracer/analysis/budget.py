@@ -30,6 +30,9 @@ from .tables import csv_text, fmt_fraction, fmt_sci, format_table
 
 __all__ = ["BudgetRow", "PowerBudget", "power_budget", "CATEGORIES"]
 
+#: Accounts per category shown in printed tables before the rest is folded into one row.
+DISPLAY_ROWS = 8
+
 #: Budget categories, in table order.
 CATEGORIES = ("detector", "absorbed (face)", "absorbed (bulk)", "escaped", "discarded", "cut", "lost")
 
@@ -117,15 +120,32 @@ class PowerBudget:
                     self.residual_w / self.source_power_w if self.source_power_w else 0.0])
         return csv_text(["category", "name", "power_w", "fraction_of_source"], out)
 
-    def format_text(self) -> str:
-        """Aligned table with per-category subtotals and the closure residual."""
-        body = []
-        for cat in CATEGORIES:
+    def display_rows(self, per_category: int = DISPLAY_ROWS) -> list:
+        """The rows for a printed table: per category the ``per_category`` strongest, the
+        rest folded into one row ``"N more"`` carrying their sum (a 24-walled mount cell
+        would otherwise fill a page). CSV and JSON keep every account.
+
+        >>> b = PowerBudget(1.0, rows=[BudgetRow("escaped", f"a.f{i}", 0.1, 0.1) for i in range(5)])
+        >>> [r.name for r in b.display_rows(2)]
+        ['a.f0', 'a.f1', '3 more']
+        """
+        out = []
+        for cat in CATEGORIES + tuple(sorted({r.category for r in self.rows} - set(CATEGORIES))):
             rows = [r for r in self.rows if r.category == cat]
-            if not rows:
-                continue
-            for r in rows:
-                body.append([cat, r.name, fmt_sci(r.power_w), fmt_fraction(r.fraction)])
+            if len(rows) > per_category + 1:
+                rest = rows[per_category:]
+                w = float(sum(r.power_w for r in rest))
+                rows = rows[:per_category] + [BudgetRow(cat, f"{len(rest)} more", w,
+                                                        sum(r.fraction for r in rest))]
+            out.extend(rows)
+        return out
+
+    def format_text(self) -> str:
+        """Aligned table with per-category subtotals and the closure residual (the
+        strongest accounts of each category, :meth:`display_rows`)."""
+        body = []
+        for r in self.display_rows():
+            body.append([r.category, r.name, fmt_sci(r.power_w), fmt_fraction(r.fraction)])
         body.append(["total", "", fmt_sci(self.source_power_w - self.residual_w),
                      fmt_fraction(1 - (self.residual_w / self.source_power_w
                                        if self.source_power_w else 0.0))])

@@ -39,14 +39,23 @@ def scatter_ranking(result, detector: str) -> dict:
                 standard_error_w=float(result.detector_standard_error(detector)))
 
 
-def format_scatter_ranking(result, detector: str) -> str:
-    """Text table of :func:`scatter_ranking` ('' when nothing scattered reaches it)."""
+def format_scatter_ranking(result, detector: str, *, limit: int = 10) -> str:
+    """Text table of :func:`scatter_ranking` ('' when nothing scattered reaches it): the
+    ``limit`` strongest faces, the rest in one row."""
     from .tables import fmt_fraction, fmt_sci, format_table
 
     r = scatter_ranking(result, detector)
     if not r["faces"]:
         return ""
-    rows = [[f["face"], fmt_sci(f["power_w"]), fmt_fraction(f["share"])] for f in r["faces"]]
+    faces = r["faces"]
+    rows = [[f["face"], fmt_sci(f["power_w"]), fmt_fraction(f["share"])] for f in faces[:limit]]
+    if len(faces) > limit + 1:
+        rest = faces[limit:]
+        rows.append([f"{len(rest)} more faces", fmt_sci(sum(f["power_w"] for f in rest)),
+                     fmt_fraction(sum(f["share"] for f in rest))])
+    else:
+        rows += [[f["face"], fmt_sci(f["power_w"]), fmt_fraction(f["share"])]
+                 for f in faces[limit:]]
     head = (f"Scattered light on {detector}: {fmt_sci(r['scattered_w'])} W "
             f"(standard error {fmt_sci(r['standard_error_w'])} W), by the face that scattered "
             f"it last")

@@ -90,27 +90,63 @@ def _scene_points(scene, rays):
     return np.vstack(pts) if pts else np.zeros((1, 3))
 
 
-def _draw_solids(ax, scene, plane: Plane, colors, scale):
-    from matplotlib.patches import Polygon
+def _face_rings(geometry, plane: Plane, scale):
+    """Per face: (depth, facing, rings) with rings a list of (k, 2) outlines in drawing
+    units, the first the outside; a mesh face with a hole (a tube's end, a baffle's plate)
+    gets its hole as a further ring, from the union of its triangles."""
+    polys = [np.asarray(p, float) for p in geometry.face_polygons]
+    normals = np.asarray(geometry.face_normals, float)
+    holes = {}
+    if not getattr(geometry, "is_convex", True):
+        from shapely.geometry import Polygon as ShapelyPolygon
+        from shapely.ops import unary_union
 
+        verts, tris, tface = geometry.triangles()
+        verts = np.asarray(verts, float)
+        for f in range(len(polys)):
+            if abs(normals[f] @ plane.w) < 1e-9:
+                continue
+            tri = [ShapelyPolygon(plane.to2d(verts[t]) / scale)
+                   for t in np.asarray(tris)[np.asarray(tface) == f]]
+            shape = unary_union([t.buffer(0) for t in tri if t.area > 0])
+            if shape.geom_type == "Polygon" and len(shape.interiors):
+                holes[f] = [np.asarray(r.coords)[:-1] for r in shape.interiors]
+    out = []
+    for f, (poly, n) in enumerate(zip(polys, normals)):
+        out.append((float(plane.depth(poly).mean()), float(n @ plane.w),
+                    [plane.to2d(poly) / scale] + holes.get(f, [])))
+    return out
+
+
+def _ring_patch(rings, **kw):
+    """One patch of an outline with holes (even-odd fill)."""
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path
+
+    verts, codes = [], []
+    for r in rings:
+        verts.extend(list(r) + [r[0]])
+        codes.extend([Path.MOVETO] + [Path.LINETO] * (len(r) - 1) + [Path.CLOSEPOLY])
+    return PathPatch(Path(np.asarray(verts), codes), **kw)
+
+
+def _draw_solids(ax, scene, plane: Plane, colors, scale):
     faces = []
     for s in scene.solids.values():
         col = colors[solid_label(s)]
-        for poly, n in zip(s.geometry.face_polygons, s.geometry.face_normals):
-            poly = np.asarray(poly, float)
-            faces.append((float(plane.depth(poly).mean()), float(np.asarray(n) @ plane.w),
-                          plane.to2d(poly) / scale, col))
+        for depth, facing, rings in _face_rings(s.geometry, plane, scale):
+            faces.append((depth, facing, rings, col))
     faces.sort(key=lambda f: f[0])
-    for depth, facing, xy, col in faces:
+    for depth, facing, rings, col in faces:
         if facing < -1e-9:
-            ax.add_patch(Polygon(xy, closed=True, facecolor="none", edgecolor=darker(col),
-                                 lw=0.5, ls=(0, (3, 2)), alpha=0.45, zorder=1))
-    for depth, facing, xy, col in faces:
+            ax.add_patch(_ring_patch(rings, facecolor="none", edgecolor=darker(col),
+                                     lw=0.5, ls=(0, (3, 2)), alpha=0.45, zorder=1))
+    for depth, facing, rings, col in faces:
         if facing > 1e-9:
-            ax.add_patch(Polygon(xy, closed=True, facecolor=col, alpha=SOLID_ALPHA * 0.7,
-                                 edgecolor="none", zorder=2))
-            ax.add_patch(Polygon(xy, closed=True, facecolor="none", edgecolor=darker(col),
-                                 lw=0.8, zorder=3))
+            ax.add_patch(_ring_patch(rings, facecolor=col, alpha=SOLID_ALPHA * 0.7,
+                                     edgecolor="none", zorder=2))
+            ax.add_patch(_ring_patch(rings, facecolor="none", edgecolor=darker(col),
+                                     lw=0.8, zorder=3))
 
 
 def _draw_detectors(ax, scene, plane: Plane, scale):

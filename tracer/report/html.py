@@ -220,8 +220,10 @@ def _verdicts_section(verdicts, warnings=(), notes=()) -> str:
 def _budget_section(budget, figure_html: str) -> str:
     parts = ["<h2>Power budget</h2>",
              f"<p>Where the {fmt_sci(budget.source_power_w)} W of source power goes. Every account "
-             "is listed once; the rows add up to the source power.</p>"]
-    rows = [[r.category, r.name, fmt_sci(r.power_w), fmt_fraction(r.fraction)] for r in budget.rows]
+             "is listed once (beyond the eight strongest of a kind, the rest in one row; the CSV and "
+             "JSON outputs list them all); the rows add up to the source power.</p>"]
+    shown = budget.display_rows() if hasattr(budget, "display_rows") else budget.rows
+    rows = [[r.category, r.name, fmt_sci(r.power_w), fmt_fraction(r.fraction)] for r in shown]
     rows.append(["total", "", fmt_sci(budget.source_power_w - budget.residual_w),
                  fmt_fraction((budget.source_power_w - budget.residual_w) / budget.source_power_w
                               if budget.source_power_w else 0.0)])
